@@ -1,0 +1,144 @@
+// ITU-R P.676-13 (08/2022) Annex 1, line-by-line specific attenuation (eqs. 1-9; equation
+// numbers from memory, formulas checked against the official validation table in tests).
+//
+// gamma = 0.1820 f (N''_ox + N''_wv) dB/km with f in GHz, p and e in hPa, theta = 300/T.
+// The code is templated on the scalar so that one transcription of the equations serves
+// both plain values and ceres::Jet partial derivatives.
+#include <ceres/jet.h>
+
+#include <cmath>
+#include <vector>
+
+#include "p676_lines.hpp"
+#include "wvr/absorption.hpp"
+
+namespace wvr {
+namespace {
+
+using ceres::exp;
+using ceres::pow;
+using ceres::sqrt;
+using std::exp;
+using std::pow;
+using std::sqrt;
+
+// Conversion of N'' (dB/km per 0.1820 f) to Np/m: gamma_db_per_km / 4342.94...
+constexpr double kNpPerMPerDbPerKm = 1.0 / 4342.944819032518;
+
+template <typename S>
+struct LineTerm {
+  double f0_ghz;
+  S strength;  // S_i
+  S width;     // Delta f (GHz)
+  S mixing;    // delta (dimensionless)
+};
+
+template <typename S>
+void oxygen_terms(const S& p, const S& e, const S& theta, std::vector<LineTerm<S>>& out) {
+  out.clear();
+  for (const detail::P676Line& line : detail::kP676OxygenLines) {
+    // eq. 3: S = a1 1e-7 p theta^3 exp[a2 (1 - theta)]
+    S strength = line.c1 * 1e-7 * p * pow(theta, 3.0) * exp(line.c2 * (1.0 - theta));
+    // eq. 6a/6b: width with Zeeman floor
+    S width = line.c3 * 1e-4 * (p * pow(theta, 0.8 - line.c4) + 1.1 * e * theta);
+    width = sqrt(width * width + 2.25e-6);
+    // eq. 7: line mixing
+    S mixing = (line.c5 + line.c6 * theta) * 1e-4 * (p + e) * pow(theta, 0.8);
+    out.push_back({line.f0_ghz, strength, width, mixing});
+  }
+}
+
+template <typename S>
+void water_terms(const S& p, const S& e, const S& theta, std::vector<LineTerm<S>>& out) {
+  out.clear();
+  for (const detail::P676Line& line : detail::kP676WaterLines) {
+    // eq. 3: S = b1 1e-1 e theta^3.5 exp[b2 (1 - theta)]
+    S strength = line.c1 * 1e-1 * e * pow(theta, 3.5) * exp(line.c2 * (1.0 - theta));
+    // eq. 6a/6b: width with Doppler term
+    S width = line.c3 * 1e-4 * (p * pow(theta, line.c4) + line.c5 * e * pow(theta, line.c6));
+    width = 0.535 * width +
+            sqrt(0.217 * width * width + 2.1316e-12 * line.f0_ghz * line.f0_ghz / theta);
+    out.push_back({line.f0_ghz, strength, width, S(0.0)});
+  }
+}
+
+// eq. 5: line shape factor F_i (GHz^-1) times strength, summed over lines.
+template <typename S>
+S line_sum(double f, const std::vector<LineTerm<S>>& terms) {
+  S sum(0.0);
+  for (const LineTerm<S>& t : terms) {
+    const double below = t.f0_ghz - f;
+    const double above = t.f0_ghz + f;
+    const S w2 = t.width * t.width;
+    const S shape = (f / t.f0_ghz) * ((t.width - t.mixing * below) / (below * below + w2) +
+                                      (t.width - t.mixing * above) / (above * above + w2));
+    sum += t.strength * shape;
+  }
+  return sum;
+}
+
+// eq. 8-9: dry-air continuum N''_D.
+template <typename S>
+S dry_continuum(double f, const S& p, const S& e, const S& theta) {
+  const S d = 5.6e-4 * (p + e) * pow(theta, 0.8);
+  return f * p * theta * theta *
+         (6.14e-5 / (d * (1.0 + (f / d) * (f / d))) +
+          1.4e-12 * p * pow(theta, 1.5) / (1.0 + 1.9e-5 * std::pow(f, 1.5)));
+}
+
+class P676Annex1Model final : public AbsorptionModel {
+ public:
+  std::string name() const override { return "ITU-R P.676-13 Annex 1"; }
+
+  void absorption(std::span<const double> freq_ghz,
+                  const GasState& state,
+                  std::span<double> dry_np_per_m,
+                  std::span<double> water_np_per_m) const override {
+    const double p = state.dry_pressure_hpa;
+    const double e = state.vapour_pressure_hpa;
+    const double theta = 300.0 / state.temperature_k;
+    thread_local std::vector<LineTerm<double>> ox;
+    thread_local std::vector<LineTerm<double>> wv;
+    oxygen_terms(p, e, theta, ox);
+    water_terms(p, e, theta, wv);
+    for (std::size_t i = 0; i < freq_ghz.size(); ++i) {
+      const double f = freq_ghz[i];
+      const double n_ox = line_sum(f, ox) + dry_continuum(f, p, e, theta);
+      const double n_wv = line_sum(f, wv);
+      dry_np_per_m[i] = 0.1820 * f * n_ox * kNpPerMPerDbPerKm;
+      water_np_per_m[i] = 0.1820 * f * n_wv * kNpPerMPerDbPerKm;
+    }
+  }
+
+  void total_absorption_with_partials(std::span<const double> freq_ghz,
+                                      const GasState& state,
+                                      std::span<double> total_np_per_m,
+                                      std::span<AbsorptionPartials> partials) const override {
+    using Jet = ceres::Jet<double, 3>;
+    const Jet p(state.dry_pressure_hpa, 0);
+    const Jet e(state.vapour_pressure_hpa, 1);
+    const Jet temperature(state.temperature_k, 2);
+    const Jet theta = 300.0 / temperature;
+    thread_local std::vector<LineTerm<Jet>> ox;
+    thread_local std::vector<LineTerm<Jet>> wv;
+    oxygen_terms(p, e, theta, ox);
+    water_terms(p, e, theta, wv);
+    for (std::size_t i = 0; i < freq_ghz.size(); ++i) {
+      const double f = freq_ghz[i];
+      const Jet n = line_sum(f, ox) + dry_continuum(f, p, e, theta) + line_sum(f, wv);
+      const Jet gamma = 0.1820 * f * n * kNpPerMPerDbPerKm;
+      total_np_per_m[i] = gamma.a;
+      partials[i] = {gamma.v[0], gamma.v[1], gamma.v[2]};
+    }
+  }
+};
+
+}  // namespace
+
+std::shared_ptr<const AbsorptionModel> make_p676_annex1_model() {
+  static const std::shared_ptr<const AbsorptionModel> model =
+      std::make_shared<P676Annex1Model>();
+  return model;
+}
+
+}  // namespace wvr
