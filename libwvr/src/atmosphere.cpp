@@ -47,16 +47,16 @@ AtmosphereProfile::AtmosphereProfile(std::vector<AtmosphereLayer> layers)
                          " does not continue the layer below (top_m = " +
                          std::to_string(layers_[i - 1].top_m) + ")");
     }
-    require_in_range(layer_field(i, "temperature_k"), l.temperature_k, 100.0, 400.0, "K");
+    require_in_range(layer_field(i, "temperature_k"), l.temperature_k, 100.0, 1500.0, "K");
     require_in_range(layer_field(i, "pressure_hpa"), l.pressure_hpa, 1e-9, 1200.0, "hPa");
     require_in_range(layer_field(i, "vapour_density_kg_m3"), l.vapour_density_kg_m3, 0.0, 0.1,
                      "kg/m^3");
     require_in_range(layer_field(i, "liquid_density_kg_m3"), l.liquid_density_kg_m3, 0.0, 0.01,
                      "kg/m^3");
     if (l.vapour_pressure_hpa() >= l.pressure_hpa) {
-      throw InvalidInput(describe_value(layer_field(i, "vapour_density_kg_m3"),
-                                        l.vapour_density_kg_m3) +
-                         " gives a vapour pressure above the total pressure");
+      throw InvalidInput(
+          describe_value(layer_field(i, "vapour_density_kg_m3"), l.vapour_density_kg_m3) +
+          " gives a vapour pressure above the total pressure");
     }
   }
 }
@@ -93,8 +93,7 @@ AtmosphereProfile AtmosphereProfile::with_cloud(double base_above_ground_m,
   require_in_range("cloud.base_above_ground_m", base_above_ground_m, 0.0,
                    top_altitude_m() - ground_altitude_m(), "m");
   require_in_range("cloud.thickness_m", thickness_m, 1.0, 20000.0, "m");
-  require_in_range("cloud.liquid_water_path_kg_m2", liquid_water_path_kg_m2, 0.0, 10.0,
-                   "kg/m^2");
+  require_in_range("cloud.liquid_water_path_kg_m2", liquid_water_path_kg_m2, 0.0, 10.0, "kg/m^2");
   const double base = ground_altitude_m() + base_above_ground_m;
   const double top = std::min(base + thickness_m, top_altitude_m());
   const double content = liquid_water_path_kg_m2 / (top - base);
@@ -133,8 +132,7 @@ void SiteParameters::validate() const {
 
 void LayerGrid::validate() const {
   if (layer_count < 4 || layer_count > 5000) {
-    throw InvalidInput("layer_count = " + std::to_string(layer_count) +
-                       " is outside [4, 5000]");
+    throw InvalidInput("layer_count = " + std::to_string(layer_count) + " is outside [4, 5000]");
   }
   require_in_range("top_altitude_m", top_altitude_m, 5000.0, 100000.0, "m");
 }
@@ -148,7 +146,8 @@ std::vector<double> layer_boundaries(double ground_m,
   std::vector<double> grid;
   grid.reserve(static_cast<std::size_t>(layer_count) + 1 + knots_m.size());
   for (int k = 0; k <= layer_count; ++k) {
-    grid.push_back(ground_m + height * std::expm1(kStretch * k / layer_count) / std::expm1(kStretch));
+    grid.push_back(ground_m +
+                   height * std::expm1(kStretch * k / layer_count) / std::expm1(kStretch));
   }
   grid.back() = top_m;
   for (double knot : knots_m) {
@@ -226,9 +225,8 @@ AtmosphereProfile make_parametric_profile(const SiteParameters& site, const Laye
   double surface_vapour_kg_m3 = 1.0;  // rescaled below when pwv_mm is given
   if (site.surface_relative_humidity_pct) {
     const double es = saturation_vapour_pressure_hpa(site.surface_temperature_k);
-    surface_vapour_kg_m3 =
-        vapour_density_kg_m3(es * *site.surface_relative_humidity_pct / 100.0,
-                             site.surface_temperature_k);
+    surface_vapour_kg_m3 = vapour_density_kg_m3(es * *site.surface_relative_humidity_pct / 100.0,
+                                                site.surface_temperature_k);
   }
   std::vector<AtmosphereLayer> layers;
   layers.reserve(bounds.size() - 1);

@@ -15,7 +15,8 @@ S specific_attenuation_db_per_km_per_g_m3(double f, const S& temperature_k) {
   const S fs = 39.8 * fp;
   const S rp = f / fp;
   const S rs = f / fs;
-  const S eps_imag = f * (eps0 - eps1) / (fp * (1.0 + rp * rp)) + f * (eps1 - eps2) / (fs * (1.0 + rs * rs));
+  const S eps_imag =
+      f * (eps0 - eps1) / (fp * (1.0 + rp * rp)) + f * (eps1 - eps2) / (fs * (1.0 + rs * rs));
   const S eps_real = (eps0 - eps1) / (1.0 + rp * rp) + (eps1 - eps2) / (1.0 + rs * rs) + eps2;
   const S eta = (2.0 + eps_real) / eps_imag;
   return 0.819 * f / (eps_imag * (1.0 + eta * eta));
@@ -26,8 +27,7 @@ constexpr double kConversion = 1e3 / 4342.944819032518;
 
 }  // namespace
 
-double cloud_liquid_specific_attenuation_db_per_km_per_g_m3(double freq_ghz,
-                                                             double temperature_k) {
+double cloud_liquid_specific_attenuation_db_per_km_per_g_m3(double freq_ghz, double temperature_k) {
   return specific_attenuation_db_per_km_per_g_m3(freq_ghz, temperature_k);
 }
 

@@ -16,8 +16,8 @@ void require_finite(const std::string& field, double value) {
   if (!std::isfinite(value)) throw InvalidInput(describe_value(field, value) + " is not finite");
 }
 
-void require_in_range(const std::string& field, double value, double lo, double hi,
-                      const std::string& unit) {
+void require_in_range(
+    const std::string& field, double value, double lo, double hi, const std::string& unit) {
   require_finite(field, value);
   if (value < lo || value > hi) {
     std::ostringstream out;

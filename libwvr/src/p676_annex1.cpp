@@ -136,8 +136,7 @@ class P676Annex1Model final : public AbsorptionModel {
 }  // namespace
 
 std::shared_ptr<const AbsorptionModel> make_p676_annex1_model() {
-  static const std::shared_ptr<const AbsorptionModel> model =
-      std::make_shared<P676Annex1Model>();
+  static const std::shared_ptr<const AbsorptionModel> model = std::make_shared<P676Annex1Model>();
   return model;
 }
 

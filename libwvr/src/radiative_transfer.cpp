@@ -23,10 +23,10 @@ std::vector<double> layer_path_lengths_m(const AtmosphereProfile& profile,
   auto refractive_index = [&](const AtmosphereLayer& l) {
     if (!options.refraction) return 1.0;
     const GasState g = l.gas_state();
-    return 1.0 + 1e-6 * (hydrostatic_refractivity(g.dry_pressure_hpa, g.vapour_pressure_hpa,
-                                                  g.temperature_k, options.refractivity) +
-                         wet_refractivity(g.vapour_pressure_hpa, g.temperature_k,
-                                          options.refractivity));
+    return 1.0 +
+           1e-6 * (hydrostatic_refractivity(g.dry_pressure_hpa, g.vapour_pressure_hpa,
+                                            g.temperature_k, options.refractivity) +
+                   wet_refractivity(g.vapour_pressure_hpa, g.temperature_k, options.refractivity));
   };
   // Bouguer's invariant for a spherically stratified medium: n r cos(e) = const. In layer i
   // (constant n_i) the ray is straight with impact parameter b_i = C / n_i.
@@ -70,13 +70,14 @@ LayerOpticsTable exact_layer_optics(const AtmosphereProfile& profile,
       // Vapour scaling at fixed total pressure: de = e ds, dp_dry = -e ds.
       const double d_alpha_d_scale = (d.d_vapour_pressure_per_hpa - d.d_dry_pressure_per_hpa) * e;
       // Temperature offset at fixed vapour density and total pressure: de = e/T dT.
-      double d_alpha_d_t = d.d_temperature_per_k +
-                           (d.d_vapour_pressure_per_hpa - d.d_dry_pressure_per_hpa) * e /
-                               g.temperature_k;
+      double d_alpha_d_t =
+          d.d_temperature_per_k +
+          (d.d_vapour_pressure_per_hpa - d.d_dry_pressure_per_hpa) * e / g.temperature_k;
       double a = alpha[f];
       if (l.liquid_density_kg_m3 > 0.0) {
         double d_kappa = 0.0;
-        const double kappa = cloud_liquid_absorption_m2_per_kg(freq_ghz[f], g.temperature_k, &d_kappa);
+        const double kappa =
+            cloud_liquid_absorption_m2_per_kg(freq_ghz[f], g.temperature_k, &d_kappa);
         a += kappa * l.liquid_density_kg_m3;
         d_alpha_d_t += d_kappa * l.liquid_density_kg_m3;
       }

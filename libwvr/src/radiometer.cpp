@@ -55,9 +55,12 @@ void gauss_legendre(int n, std::vector<double>& x, std::vector<double>& w) {
 
 std::string to_string(Sideband sideband) {
   switch (sideband) {
-    case Sideband::kDouble: return "double";
-    case Sideband::kUpper: return "upper";
-    case Sideband::kLower: return "lower";
+    case Sideband::kDouble:
+      return "double";
+    case Sideband::kUpper:
+      return "upper";
+    case Sideband::kLower:
+      return "lower";
   }
   return "unknown";
 }
@@ -106,7 +109,8 @@ std::vector<std::vector<QuadratureNode>> channel_quadrature(const RadiometerConf
   out.reserve(config.channels.size());
   for (const RadiometerChannel& c : config.channels) {
     std::vector<QuadratureNode> nodes;
-    const double upper_weight = c.sideband == Sideband::kDouble ? c.sideband_ratio / (1.0 + c.sideband_ratio)
+    const double upper_weight = c.sideband == Sideband::kDouble
+                                    ? c.sideband_ratio / (1.0 + c.sideband_ratio)
                                 : c.sideband == Sideband::kUpper ? 1.0
                                                                  : 0.0;
     for (int side = -1; side <= 1; side += 2) {

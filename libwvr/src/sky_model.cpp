@@ -49,12 +49,12 @@ SlantPath SkyModel::slant_path(const AtmosphereProfile& profile, double elevatio
     const double ds = path.layer_path_m[i];
     vertical += l.thickness_m();
     slant += ds;
-    path.wet_path_m += 1e-6 * wet_refractivity(g.vapour_pressure_hpa, g.temperature_k,
-                                               options_.refractivity) * ds;
-    path.hydrostatic_path_m += 1e-6 * hydrostatic_refractivity(g.dry_pressure_hpa,
-                                                               g.vapour_pressure_hpa,
-                                                               g.temperature_k,
-                                                               options_.refractivity) * ds;
+    path.wet_path_m +=
+        1e-6 * wet_refractivity(g.vapour_pressure_hpa, g.temperature_k, options_.refractivity) * ds;
+    path.hydrostatic_path_m += 1e-6 *
+                               hydrostatic_refractivity(g.dry_pressure_hpa, g.vapour_pressure_hpa,
+                                                        g.temperature_k, options_.refractivity) *
+                               ds;
     path.pwv_slant_mm += l.vapour_density_kg_m3 * ds;
   }
   path.airmass = slant / vertical;
@@ -86,7 +86,8 @@ SkySpectrum SkyModel::spectrum(const AtmosphereProfile& profile,
     for (std::size_t f = 0; f < nf; ++f) {
       double alpha = dry[f] + water[f];
       if (l.liquid_density_kg_m3 > 0.0) {
-        alpha += l.liquid_density_kg_m3 * cloud_liquid_absorption_m2_per_kg(freq_ghz[f], l.temperature_k);
+        alpha += l.liquid_density_kg_m3 *
+                 cloud_liquid_absorption_m2_per_kg(freq_ghz[f], l.temperature_k);
       }
       const double tau = alpha * ds[i];
       const double t = std::exp(-tau);
@@ -123,8 +124,8 @@ ChannelBrightness SkyModel::channels(const AtmosphereProfile& profile,
   const std::vector<double> ds = detail::layer_path_lengths_m(profile, elevation_deg, options_);
   const detail::LayerOpticsTable optics =
       detail::exact_layer_optics(profile, freqs, ds, *absorption_);
-  const detail::TransferWithJacobians rt = detail::transfer_with_jacobians(
-      optics, freqs, options_.cosmic_background_k);
+  const detail::TransferWithJacobians rt =
+      detail::transfer_with_jacobians(optics, freqs, options_.cosmic_background_k);
 
   const SlantPath path = slant_path(profile, elevation_deg);
   ChannelBrightness out;

@@ -41,9 +41,11 @@ void validate_sounding(const std::vector<SoundingLevel>& levels) {
   for (std::size_t i = 0; i < levels.size(); ++i) {
     const SoundingLevel& l = levels[i];
     const std::string name = level_name(i, l);
-    require_in_range(name + " height_m", l.height_m, -500.0, 100000.0, "m");
+    require_in_range(name + " height_m", l.height_m, -500.0, 150000.0, "m");
     require_in_range(name + " pressure_hpa", l.pressure_hpa, 1e-6, 1100.0, "hPa");
-    require_in_range(name + " temperature_k", l.temperature_k, 150.0, 350.0, "K");
+    // Thermospheric levels of model profiles (above 50 km) may be far hotter than air below.
+    require_in_range(name + " temperature_k", l.temperature_k, 150.0,
+                     l.height_m < 50000.0 ? 350.0 : 1500.0, "K");
     require_in_range(name + " vapour_density_kg_m3", l.vapour_density_kg_m3, 0.0, 0.1, "kg/m^3");
     const double e = vapour_pressure_hpa(l.vapour_density_kg_m3, l.temperature_k);
     const double es = saturation_vapour_pressure_hpa(l.temperature_k);
@@ -86,14 +88,16 @@ AtmosphereProfile profile_from_sounding(const std::vector<SoundingLevel>& levels
     const SoundingLevel& b = levels[i + 1];
     const double span = b.height_m - a.height_m;
     const int parts = std::max(
-        1, static_cast<int>(std::ceil(span / max_thickness_at(0.5 * (a.height_m + b.height_m)) - 1e-9)));
+        1, static_cast<int>(
+               std::ceil(span / max_thickness_at(0.5 * (a.height_m + b.height_m)) - 1e-9)));
     for (int k = 0; k < parts; ++k) {
       AtmosphereLayer l;
       l.base_m = a.height_m + span * k / parts;
       l.top_m = (k + 1 == parts) ? b.height_m : a.height_m + span * (k + 1) / parts;
       const double w = (l.mid_m() - a.height_m) / span;
       l.temperature_k = (1.0 - w) * a.temperature_k + w * b.temperature_k;
-      l.pressure_hpa = std::exp((1.0 - w) * std::log(a.pressure_hpa) + w * std::log(b.pressure_hpa));
+      l.pressure_hpa =
+          std::exp((1.0 - w) * std::log(a.pressure_hpa) + w * std::log(b.pressure_hpa));
       if (a.vapour_density_kg_m3 > 0.0 && b.vapour_density_kg_m3 > 0.0) {
         l.vapour_density_kg_m3 = std::exp((1.0 - w) * std::log(a.vapour_density_kg_m3) +
                                           w * std::log(b.vapour_density_kg_m3));
@@ -133,8 +137,9 @@ std::vector<SoundingLevel> read_sounding_csv(const std::filesystem::path& path) 
       density = column("vapour_density_g_m3");
       dewpoint = column("dewpoint_c");
       humidity = column("relative_humidity_pct");
-      for (const auto& [name, index] : {std::pair{"height_m", height}, std::pair{"pressure_hpa", pressure},
-                                        std::pair{"temperature_c", temperature}}) {
+      for (const auto& [name, index] :
+           {std::pair{"height_m", height}, std::pair{"pressure_hpa", pressure},
+            std::pair{"temperature_c", temperature}}) {
         if (index < 0) throw InvalidInput(where + ": header has no column '" + name + "'");
       }
       if (density < 0 && dewpoint < 0 && humidity < 0) {

@@ -41,12 +41,12 @@ StandardAtmosphereLevel us_standard_atmosphere_1976(double height_m) {
   StandardAtmosphereLevel level;
   level.temperature_k = layer.base_temperature_k + layer.lapse_k_per_km * dh;
   if (layer.lapse_k_per_km == 0.0) {
-    level.pressure_hpa =
-        layer.base_pressure_hpa * std::exp(-kHydrostaticConstantKPerKm * dh / layer.base_temperature_k);
-  } else {
     level.pressure_hpa = layer.base_pressure_hpa *
-                         std::pow(layer.base_temperature_k / level.temperature_k,
-                                  kHydrostaticConstantKPerKm / layer.lapse_k_per_km);
+                         std::exp(-kHydrostaticConstantKPerKm * dh / layer.base_temperature_k);
+  } else {
+    level.pressure_hpa =
+        layer.base_pressure_hpa * std::pow(layer.base_temperature_k / level.temperature_k,
+                                           kHydrostaticConstantKPerKm / layer.lapse_k_per_km);
   }
   return level;
 }

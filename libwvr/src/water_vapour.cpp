@@ -6,7 +6,8 @@
 
 namespace wvr {
 
-double saturation_vapour_pressure_hpa(double temperature_k, double total_pressure_hpa,
+double saturation_vapour_pressure_hpa(double temperature_k,
+                                      double total_pressure_hpa,
                                       SaturationPhase phase) {
   const double t = temperature_k - 273.15;
   const bool ice = phase == SaturationPhase::kIce;

@@ -1,9 +1,8 @@
 // Links against the installed libwvr and prints the zenith brightness at 183.31 GHz for a
 // 1 mm PWV sea-level atmosphere; exits non-zero if the value is not a plausible brightness.
-#include <wvr/wvr.hpp>
-
 #include <iostream>
 #include <vector>
+#include <wvr/wvr.hpp>
 
 int main() {
   wvr::SiteParameters site;

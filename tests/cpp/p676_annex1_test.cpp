@@ -31,7 +31,8 @@ TEST(P676Annex1, MatchesOfficialValidationExamples) {
   ASSERT_EQ(table.size(), 350u);
   for (std::size_t r = 0; r < table.size(); ++r) {
     const double f = table.number(r, "f");
-    const Gamma g = p676_gamma(f, table.number(r, "P"), table.number(r, "T"), table.number(r, "rho"));
+    const Gamma g =
+        p676_gamma(f, table.number(r, "P"), table.number(r, "T"), table.number(r, "rho"));
     // An exact Annex 1 implementation reproduces the workbook to ~1e-9 (README of the table).
     EXPECT_NEAR(g.oxygen_db_per_km, table.number(r, "gamma0"), 1e-6 * table.number(r, "gamma0"))
         << "f = " << f;
@@ -42,16 +43,19 @@ TEST(P676Annex1, MatchesOfficialValidationExamples) {
 
 TEST(P676Annex1, MatchesItuRpyExactTo1000Ghz) {
   // ITU-Rpy commit 6d7f35c, itur.models.itu676.gamma0_exact / gammaw_exact (P.676-13).
-  const test::CsvTable table = test::read_csv(test::testdata("reference/itur_p676_specific_attenuation.csv"));
+  const test::CsvTable table =
+      test::read_csv(test::testdata("reference/itur_p676_specific_attenuation.csv"));
   ASSERT_GT(table.size(), 200u);
   for (std::size_t r = 0; r < table.size(); ++r) {
     const double f = table.number(r, "f_GHz");
-    const Gamma g = p676_gamma(f, table.number(r, "p_hPa"), table.number(r, "T_K"),
-                               table.number(r, "rho_gm3"));
+    const Gamma g =
+        p676_gamma(f, table.number(r, "p_hPa"), table.number(r, "T_K"), table.number(r, "rho_gm3"));
     EXPECT_NEAR(g.oxygen_db_per_km, table.number(r, "gamma_oxygen_dBkm"),
-                1e-6 * table.number(r, "gamma_oxygen_dBkm")) << "f = " << f;
+                1e-6 * table.number(r, "gamma_oxygen_dBkm"))
+        << "f = " << f;
     EXPECT_NEAR(g.water_db_per_km, table.number(r, "gamma_water_dBkm"),
-                1e-6 * table.number(r, "gamma_water_dBkm")) << "f = " << f;
+                1e-6 * table.number(r, "gamma_water_dBkm"))
+        << "f = " << f;
   }
 }
 
@@ -71,15 +75,20 @@ TEST(P676Annex1, PartialDerivativesMatchFiniteDifferences) {
     EXPECT_NEAR(total[i], total_at(state, i), 1e-12 * total[i]);
     const double hp = 1e-3, he = 1e-4, ht = 1e-3;
     GasState a = state, b = state;
-    a.dry_pressure_hpa += hp; b.dry_pressure_hpa -= hp;
+    a.dry_pressure_hpa += hp;
+    b.dry_pressure_hpa -= hp;
     EXPECT_NEAR(partials[i].d_dry_pressure_per_hpa, (total_at(a, i) - total_at(b, i)) / (2 * hp),
                 1e-6 * std::abs(partials[i].d_dry_pressure_per_hpa) + 1e-15);
-    a = state; b = state;
-    a.vapour_pressure_hpa += he; b.vapour_pressure_hpa -= he;
+    a = state;
+    b = state;
+    a.vapour_pressure_hpa += he;
+    b.vapour_pressure_hpa -= he;
     EXPECT_NEAR(partials[i].d_vapour_pressure_per_hpa, (total_at(a, i) - total_at(b, i)) / (2 * he),
                 1e-6 * std::abs(partials[i].d_vapour_pressure_per_hpa) + 1e-15);
-    a = state; b = state;
-    a.temperature_k += ht; b.temperature_k -= ht;
+    a = state;
+    b = state;
+    a.temperature_k += ht;
+    b.temperature_k -= ht;
     EXPECT_NEAR(partials[i].d_temperature_per_k, (total_at(a, i) - total_at(b, i)) / (2 * ht),
                 1e-6 * std::abs(partials[i].d_temperature_per_k) + 1e-15);
   }

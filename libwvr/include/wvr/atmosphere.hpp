@@ -31,7 +31,7 @@ class AtmosphereProfile {
  public:
   AtmosphereProfile() = default;
   // Validates contiguity (each layer's base is the previous top), positive thickness and
-  // physical ranges (T 100-400 K, 0 < P <= 1200 hPa, vapour pressure below total pressure,
+  // physical ranges (T 100-1500 K, 0 < P <= 1200 hPa, vapour pressure below total pressure,
   // non-negative densities, all finite). Throws InvalidInput naming the layer index.
   explicit AtmosphereProfile(std::vector<AtmosphereLayer> layers);
 

@@ -31,7 +31,7 @@ void require_finite(const std::string& field, double value);
 
 // Throws InvalidInput unless lo <= value <= hi (and finite). `unit` is appended to the
 // bounds in the message, e.g. "elevation_deg = 3 is outside [5, 90] deg".
-void require_in_range(const std::string& field, double value, double lo, double hi,
-                      const std::string& unit = "");
+void require_in_range(
+    const std::string& field, double value, double lo, double hi, const std::string& unit = "");
 
 }  // namespace wvr

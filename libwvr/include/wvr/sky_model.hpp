@@ -82,7 +82,7 @@ struct ChannelBrightness {
   std::vector<double> path_sensitivity_k_per_mm;    // dT_b / dL_wet, K per mm of slant wet path
   double pwv_mm = 0.0;
   double elevation_deg = 0.0;
-  double wet_path_m = 0.0;               // slant wet path
+  double wet_path_m = 0.0;                 // slant wet path
   double d_wet_path_d_pwv_m_per_mm = 0.0;  // slant wet path per mm of zenith PWV
 };
 

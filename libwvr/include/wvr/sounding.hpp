@@ -16,9 +16,9 @@ struct SoundingLevel {
 };
 
 // Checks a sounding: at least two levels, strictly increasing height, strictly decreasing
-// pressure, temperature 150-350 K, pressure 0-1100 hPa, vapour pressure below saturation
-// over water by no more than 10 % (supersaturation beyond that is a data error), all finite.
-// Throws InvalidInput naming the level ("level 7 (height_m = 1829)").
+// pressure, temperature 150-350 K (up to 1500 K above 50 km), pressure 0-1100 hPa, vapour pressure
+// below saturation over water by no more than 10 % (supersaturation beyond that is a data error),
+// all finite. Throws InvalidInput naming the level ("level 7 (height_m = 1829)").
 void validate_sounding(const std::vector<SoundingLevel>& levels);
 
 // Layers between the lowest and the top level (the antenna sits at the lowest level; nothing

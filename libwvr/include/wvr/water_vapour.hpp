@@ -12,7 +12,8 @@ enum class SaturationPhase { kWater, kIce };
 //   ice:   a 6.1115, b 23.036, c 279.82, d 333.7, EF = 1 + 1e-4 [2.2 + P (0.0383 + 6.4e-6 t^2)]
 // The enhancement factor EF accounts for moist air and applies when total_pressure_hpa > 0;
 // pass 0 for the pure-vapour value (EF = 1).
-double saturation_vapour_pressure_hpa(double temperature_k, double total_pressure_hpa = 0.0,
+double saturation_vapour_pressure_hpa(double temperature_k,
+                                      double total_pressure_hpa = 0.0,
                                       SaturationPhase phase = SaturationPhase::kWater);
 
 // Vapour density (kg/m^3) from partial pressure (hPa) and temperature (K): ideal gas,
