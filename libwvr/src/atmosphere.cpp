@@ -22,6 +22,17 @@ double gravity_m_per_s2(double height_m) {
 
 }  // namespace
 
+namespace detail {
+
+double logarithmic_mean(double a, double b) {
+  if (a <= 0.0 || b <= 0.0) return 0.5 * (a + b);
+  const double ratio = b / a;
+  if (std::abs(ratio - 1.0) < 1e-6) return 0.5 * (a + b);  // limit, avoids 0/0
+  return (b - a) / std::log(ratio);
+}
+
+}  // namespace detail
+
 double AtmosphereLayer::vapour_pressure_hpa() const {
   return wvr::vapour_pressure_hpa(vapour_density_kg_m3, temperature_k);
 }
@@ -237,7 +248,9 @@ AtmosphereProfile make_parametric_profile(const SiteParameters& site, const Laye
     const double z = l.mid_m();
     l.temperature_k = temperature_at(z);
     l.pressure_hpa = pressure_at(z);
-    l.vapour_density_kg_m3 = surface_vapour_kg_m3 * std::exp(-(z - z0) / site.water_scale_height_m);
+    l.vapour_density_kg_m3 = detail::logarithmic_mean(
+        surface_vapour_kg_m3 * std::exp(-(l.base_m - z0) / site.water_scale_height_m),
+        surface_vapour_kg_m3 * std::exp(-(l.top_m - z0) / site.water_scale_height_m));
     layers.push_back(l);
   }
   if (site.pwv_mm) {

@@ -98,12 +98,16 @@ AtmosphereProfile profile_from_sounding(const std::vector<SoundingLevel>& levels
       l.temperature_k = (1.0 - w) * a.temperature_k + w * b.temperature_k;
       l.pressure_hpa =
           std::exp((1.0 - w) * std::log(a.pressure_hpa) + w * std::log(b.pressure_hpa));
-      if (a.vapour_density_kg_m3 > 0.0 && b.vapour_density_kg_m3 > 0.0) {
-        l.vapour_density_kg_m3 = std::exp((1.0 - w) * std::log(a.vapour_density_kg_m3) +
-                                          w * std::log(b.vapour_density_kg_m3));
-      } else {
-        l.vapour_density_kg_m3 = (1.0 - w) * a.vapour_density_kg_m3 + w * b.vapour_density_kg_m3;
-      }
+      // Vapour density is log-linear between levels; the layer gets its exact mean.
+      auto vapour_at = [&](double z) {
+        const double v = (z - a.height_m) / span;
+        if (a.vapour_density_kg_m3 > 0.0 && b.vapour_density_kg_m3 > 0.0) {
+          return std::exp((1.0 - v) * std::log(a.vapour_density_kg_m3) +
+                          v * std::log(b.vapour_density_kg_m3));
+        }
+        return (1.0 - v) * a.vapour_density_kg_m3 + v * b.vapour_density_kg_m3;
+      };
+      l.vapour_density_kg_m3 = detail::logarithmic_mean(vapour_at(l.base_m), vapour_at(l.top_m));
       layers.push_back(l);
     }
   }

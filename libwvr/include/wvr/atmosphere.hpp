@@ -9,9 +9,10 @@
 
 namespace wvr {
 
-// One homogeneous layer. Heights are above mean sea level; the state is taken at mid-height
-// (the midpoint rule: with the default grid, doubling the layer count changes channel
-// brightness by < 0.02 K, see atmosphere_test).
+// One homogeneous layer. Heights are above mean sea level; temperature and pressure are
+// taken at mid-height and vapour density is the layer mean (so the column is exact). With the
+// default grid, doubling the layer count changes channel brightness by < 0.02 K
+// (sky_model_test).
 struct AtmosphereLayer {
   double base_m = 0.0;
   double top_m = 0.0;
@@ -102,6 +103,12 @@ struct LayerGrid {
 // from surface relative humidity (P.453 saturation pressure over water) or scaled so that
 // the layered column equals pwv_mm.
 AtmosphereProfile make_parametric_profile(const SiteParameters& site, const LayerGrid& grid = {});
+
+namespace detail {
+// Mean over a layer of a quantity that varies exponentially between its end values a and b:
+// (b - a) / ln(b / a). Used for vapour density so that the layered column is exact.
+double logarithmic_mean(double a, double b);
+}  // namespace detail
 
 // Layer boundaries (heights above sea level) of the geometric grid from ground to top plus the
 // given knots; exposed for profile builders and tests.

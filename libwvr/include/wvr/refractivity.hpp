@@ -19,6 +19,8 @@ struct RefractivityConstants {
   static RefractivityConstants thayer_1974() { return {77.6, 64.8, 3.776e5}; }
   // Bevis et al. (1994), J. Appl. Meteorol. 33, 379: k1 77.60, k2 70.4, k3 3.739e5.
   static RefractivityConstants bevis_1994() { return {77.60, 70.4, 3.739e5}; }
+  // ITU-R P.453-14 eq. (6) constants: N = 77.6 P_d / T + 72 e / T + 3.75e5 e / T^2.
+  static RefractivityConstants itu_p453() { return {77.6, 72.0, 3.75e5}; }
   // k2' = k2 - (M_w / M_d) k1.
   double k2_prime_k_per_hpa() const;
 };

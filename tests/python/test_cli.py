@@ -1,0 +1,122 @@
+"""The skyphase command line: output formats, options and error handling."""
+import json
+import os
+import subprocess
+
+import pytest
+
+SKYPHASE = os.environ.get("WVR_SKYPHASE", "")
+TESTDATA = os.environ.get("WVR_TESTDATA_DIR", os.path.join(os.path.dirname(__file__), "..", "..", "testdata"))
+SITE = os.path.join(TESTDATA, "sites", "demo-site.toml")
+RADIOMETER = os.path.join(TESTDATA, "radiometers", "demo-183-dsb.toml")
+
+pytestmark = pytest.mark.skipif(not SKYPHASE, reason="skyphase was not built (WVR_BUILD_TOOLS=OFF)")
+
+
+def run(*args, check=True):
+    result = subprocess.run([SKYPHASE, *args], capture_output=True, text=True, timeout=120)
+    if check:
+        assert result.returncode == 0, result.stderr
+    return result
+
+
+def test_spectrum_json_has_the_documented_fields():
+    out = json.loads(run("spectrum", "--freq-ghz", "22.235,183.31,230", "--site", SITE,
+                         "--pwv-mm", "1.5", "--elevation-deg", "45", "--format", "json").stdout)
+    for key in ("freq_ghz", "brightness_k", "rj_brightness_k", "opacity_np", "transmission"):
+        assert len(out[key]) == 3, key
+    assert out["pwv_mm"] == pytest.approx(1.5, rel=1e-9)
+    assert out["elevation_deg"] == 45
+    assert out["model"] == "ITU-R P.676-13 Annex 1"
+    # Opaque line centre: near the surface temperature of the demo site (270 K).
+    assert 240 < out["brightness_k"][1] < 270
+    for t, tau in zip(out["transmission"], out["opacity_np"]):
+        assert t == pytest.approx(pow(2.718281828459045, -tau), rel=1e-9)
+
+
+def test_spectrum_options_override_the_site_file():
+    base = json.loads(run("spectrum", "--freq-ghz", "90", "--site", SITE, "--format", "json").stdout)
+    dense = json.loads(run("spectrum", "--freq-ghz", "90", "--site", SITE, "--surface-pressure-hpa", "700",
+                           "--format", "json").stdout)
+    # 90 GHz emission is mostly dry air: more air above the antenna, more brightness.
+    assert dense["brightness_k"][0] > 1.2 * base["brightness_k"][0]
+
+
+def test_spectrum_csv_and_table():
+    csv = run("spectrum", "--freq-ghz", "183.31,186", "--format", "csv").stdout.splitlines()
+    assert csv[0] == "freq_ghz,brightness_k,rj_brightness_k,opacity_np,transmission"
+    assert len(csv) == 3
+    table = run("spectrum", "--freq-ghz", "183.31,186").stdout
+    assert "brightness_k" in table and table.startswith("#")
+
+
+def test_spectrum_from_a_sounding():
+    sounding = os.path.join(TESTDATA, "reference", "soundings", "jan20_sounding.csv")
+    out = json.loads(run("spectrum", "--freq-ghz", "22.235,31.4", "--sounding", sounding,
+                         "--format", "json").stdout)
+    # MetPy precipitable_water for this sounding: 15.30 mm (testdata/reference/soundings).
+    assert out["pwv_mm"] == pytest.approx(15.30, rel=0.02)
+
+
+def test_absorption_matches_p676_validation_values():
+    # ITU-R P.676-13 validation examples (REFERENCES): 183 GHz, 1013.25 hPa, 288.15 K, 7.5 g/m^3.
+    out = json.loads(run("absorption", "--freq-ghz", "183", "--dry-pressure-hpa", "1013.25",
+                         "--temp-k", "288.15", "--vapour-density-g-m3", "7.5", "--format", "json").stdout)
+    assert out["gamma_oxygen_db_per_km"][0] == pytest.approx(0.0127339, rel=1e-5)
+    assert out["gamma_water_db_per_km"][0] == pytest.approx(27.665008, rel=1e-6)
+    assert out["gamma_total_db_per_km"][0] == pytest.approx(0.0127339 + 27.665008, rel=1e-6)
+
+
+def test_channels_json():
+    out = json.loads(run("channels", "--radiometer", RADIOMETER, "--site", SITE, "--pwv-mm", "0.5,2",
+                         "--elevation-deg", "30,90", "--format", "json").stdout)
+    assert out["channels"] == ["w1", "w2", "w3", "w4"]
+    assert len(out["points"]) == 4
+    for point in out["points"]:
+        assert len(point["brightness_k"]) == 4
+        assert all(s > 0 for s in point["path_sensitivity_k_per_mm"])
+
+
+@pytest.mark.parametrize("args, field", [
+    (["spectrum", "--freq-ghz", "183", "--elevation-deg", "4"], "elevation_deg = 4"),
+    (["spectrum", "--freq-ghz", "183", "--elevation-deg", "91"], "elevation_deg = 91"),
+    (["spectrum", "--freq-ghz", "1200"], "freq_ghz[0] = 1200"),
+    (["spectrum", "--freq-ghz", "nan"], "freq_ghz[0] = nan"),
+    (["spectrum", "--freq-ghz", "183", "--pwv-mm", "-1"], "pwv_mm = -1"),
+    (["spectrum", "--freq-ghz", "183", "--surface-temp-k", "nan"], "surface_temperature_k = nan"),
+    (["spectrum", "--freq-ghz", "183,abc"], "--freq-ghz"),
+    (["absorption", "--freq-ghz", "0.5"], "freq_ghz[0] = 0.5"),
+    (["channels", "--radiometer", SITE], "lo_freq_ghz"),
+])
+def test_bad_input_is_one_line_on_stderr_with_nonzero_exit(args, field):
+    result = run(*args, check=False)
+    assert result.returncode == 2
+    assert result.stdout == ""
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1, result.stderr
+    assert field in lines[0], lines[0]
+
+
+def test_unreadable_files_are_reported(tmp_path):
+    bad = tmp_path / "broken.toml"
+    bad.write_text("lo_freq_ghz = [\n")
+    result = run("channels", "--radiometer", str(bad), check=False)
+    assert result.returncode == 2
+    assert "broken.toml" in result.stderr and "TOML" in result.stderr
+    empty = tmp_path / "empty.toml"
+    empty.write_text('lo_freq_ghz = 183.31\nchannels = []\n')
+    result = run("channels", "--radiometer", str(empty), check=False)
+    assert result.returncode == 2 and "channel list is empty" in result.stderr
+    overlap = tmp_path / "overlap.toml"
+    overlap.write_text('lo_freq_ghz = 183.31\n[[channels]]\nif_centre_ghz = 2.0\nbandwidth_ghz = 1.0\n'
+                       '[[channels]]\nif_centre_ghz = 2.4\nbandwidth_ghz = 1.0\n')
+    result = run("channels", "--radiometer", str(overlap), check=False)
+    assert result.returncode == 2 and "overlaps" in result.stderr
+    zero = tmp_path / "zero.toml"
+    zero.write_text('lo_freq_ghz = 183.31\n[[channels]]\nif_centre_ghz = 2.0\nbandwidth_ghz = 0.0\n')
+    result = run("channels", "--radiometer", str(zero), check=False)
+    assert result.returncode == 2 and "bandwidth_ghz = 0" in result.stderr
+    sounding = tmp_path / "sounding.csv"
+    sounding.write_text("height_m,pressure_hpa,temperature_c,dewpoint_c\n100,1000,15,5\n90,990,14,4\n")
+    result = run("spectrum", "--freq-ghz", "183", "--sounding", str(sounding), check=False)
+    assert result.returncode == 2 and "level 2" in result.stderr

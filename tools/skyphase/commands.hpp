@@ -1,0 +1,12 @@
+#pragma once
+// skyphase subcommands. Each add_* registers one subcommand and its callback.
+
+#include <CLI/CLI.hpp>
+
+namespace skyphase {
+
+void add_spectrum_command(CLI::App& app);
+void add_absorption_command(CLI::App& app);
+void add_channels_command(CLI::App& app);
+
+}  // namespace skyphase

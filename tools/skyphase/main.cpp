@@ -1,0 +1,38 @@
+// skyphase: the libwvr command-line program.
+//
+// Exit status: 0 success, 2 bad input (the message names the field and value), 1 any other
+// failure. Errors are one line on stderr.
+#include <CLI/CLI.hpp>
+#include <exception>
+#include <iostream>
+
+#include "commands.hpp"
+#include "wvr/error.hpp"
+
+int main(int argc, char** argv) {
+  CLI::App app{"skyphase: water-vapour radiometer sky model and phase correction (libwvr)"};
+  app.require_subcommand(1);
+  app.set_version_flag("--version", "skyphase 0.1.0");
+  skyphase::add_spectrum_command(app);
+  skyphase::add_absorption_command(app);
+  skyphase::add_channels_command(app);
+  try {
+    app.parse(argc, argv);
+  } catch (const CLI::CallForHelp& e) {
+    return app.exit(e);
+  } catch (const CLI::CallForAllHelp& e) {
+    return app.exit(e);
+  } catch (const CLI::CallForVersion& e) {
+    return app.exit(e);
+  } catch (const CLI::ParseError& e) {
+    std::cerr << "skyphase: error: " << e.what() << "\n";
+    return 2;
+  } catch (const wvr::InvalidInput& e) {
+    std::cerr << "skyphase: error: " << e.what() << "\n";
+    return 2;
+  } catch (const std::exception& e) {
+    std::cerr << "skyphase: error: " << e.what() << "\n";
+    return 1;
+  }
+  return 0;
+}
