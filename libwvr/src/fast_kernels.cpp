@@ -77,6 +77,24 @@ void transfer_down(const double* __restrict transmission,
   }
 }
 
+WVR_VECTOR_CLONES
+void add_liquid_opacity(const double* __restrict alpha_per_lwp,
+                        const double* __restrict path_m,
+                        std::size_t nl,
+                        std::size_t nf,
+                        double lwp,
+                        double* __restrict tau,
+                        double* __restrict d_tau_d_lwp) {
+  for (std::size_t i = 0; i < nl; ++i) {
+    const double ds = path_m[i];
+    for (std::size_t f = 0; f < nf; ++f) {
+      const double per_lwp = alpha_per_lwp[i * nf + f] * ds;
+      d_tau_d_lwp[i * nf + f] = per_lwp;
+      tau[i * nf + f] += lwp * per_lwp;
+    }
+  }
+}
+
 // Bottom-up pass: dJ/dtau_i = T_below t_i (B_i - R_above_i), dJ/dB_i = T_below (1 - t_i).
 WVR_VECTOR_CLONES
 void transfer_jacobians(const double* __restrict transmission,
@@ -85,24 +103,38 @@ void transfer_jacobians(const double* __restrict transmission,
                         const double* __restrict from_above,
                         const double* __restrict d_tau_d_pwv,
                         const double* __restrict d_tau_d_t,
+                        const double* __restrict d_tau_d_lwp,
                         std::size_t nl,
                         std::size_t nf,
                         double* __restrict t_below,
                         double* __restrict d_pwv,
-                        double* __restrict d_t) {
+                        double* __restrict d_t,
+                        double* __restrict d_lwp) {
   for (std::size_t f = 0; f < nf; ++f) {
     d_pwv[f] = 0.0;
     d_t[f] = 0.0;
+    d_lwp[f] = 0.0;
     t_below[f] = 1.0;
   }
   for (std::size_t i = 0; i < nl; ++i) {
     const std::size_t k = i * nf;
-    for (std::size_t f = 0; f < nf; ++f) {
-      const double t = transmission[k + f];
-      const double d_tau = t_below[f] * t * (source[k + f] - from_above[k + f]);
-      d_pwv[f] += d_tau * d_tau_d_pwv[k + f];
-      d_t[f] += d_tau * d_tau_d_t[k + f] + t_below[f] * (1.0 - t) * d_source_dt[k + f];
-      t_below[f] *= t;
+    if (d_tau_d_lwp != nullptr) {
+      for (std::size_t f = 0; f < nf; ++f) {
+        const double t = transmission[k + f];
+        const double d_tau = t_below[f] * t * (source[k + f] - from_above[k + f]);
+        d_pwv[f] += d_tau * d_tau_d_pwv[k + f];
+        d_t[f] += d_tau * d_tau_d_t[k + f] + t_below[f] * (1.0 - t) * d_source_dt[k + f];
+        d_lwp[f] += d_tau * d_tau_d_lwp[k + f];
+        t_below[f] *= t;
+      }
+    } else {
+      for (std::size_t f = 0; f < nf; ++f) {
+        const double t = transmission[k + f];
+        const double d_tau = t_below[f] * t * (source[k + f] - from_above[k + f]);
+        d_pwv[f] += d_tau * d_tau_d_pwv[k + f];
+        d_t[f] += d_tau * d_tau_d_t[k + f] + t_below[f] * (1.0 - t) * d_source_dt[k + f];
+        t_below[f] *= t;
+      }
     }
   }
 }

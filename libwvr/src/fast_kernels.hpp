@@ -22,6 +22,16 @@ void evaluate_layer_polynomials(const double* alpha,
                                 double* d_tau_d_pwv,
                                 double* d_tau_d_t);
 
+// Adds the cloud-liquid opacity lwp * kappa_i(f) ds_i to tau and stores its derivative with
+// respect to lwp in d_tau_d_lwp.
+void add_liquid_opacity(const double* alpha_per_lwp,
+                        const double* path_m,
+                        std::size_t nl,
+                        std::size_t nf,
+                        double lwp,
+                        double* tau,
+                        double* d_tau_d_lwp);
+
 // out[k] = exp(-tau[k]) for tau[k] >= 0 (relative error < 1e-15; 0 beyond tau = 700).
 void exp_negative(const double* tau, std::size_t n, double* out);
 
@@ -35,7 +45,8 @@ void transfer_down(const double* transmission,
                    double* from_above,
                    double* radiance);
 
-// Bottom-up pass: dJ/d(pwv) and dJ/dT per frequency from
+// Bottom-up pass: dJ/d(pwv), dJ/dT and (when d_tau_d_lwp is not null) dJ/d(lwp) per
+// frequency from
 // dJ/dtau_i = T_below t_i (B_i - R_above_i) and dJ/dB_i = T_below (1 - t_i).
 void transfer_jacobians(const double* transmission,
                         const double* source,
@@ -43,10 +54,12 @@ void transfer_jacobians(const double* transmission,
                         const double* from_above,
                         const double* d_tau_d_pwv,
                         const double* d_tau_d_t,
+                        const double* d_tau_d_lwp,
                         std::size_t nl,
                         std::size_t nf,
                         double* t_below,
                         double* d_pwv,
-                        double* d_t);
+                        double* d_t,
+                        double* d_lwp);
 
 }  // namespace wvr::detail

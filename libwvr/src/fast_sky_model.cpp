@@ -52,6 +52,9 @@ double chebyshev_node(int j, int n) { return std::cos(std::numbers::pi * (j + 0.
 
 void FastSkyModelOptions::validate() const {
   require_in_range("max_pwv_mm", max_pwv_mm, 0.1, 100.0, "mm");
+  require_in_range("cloud_base_above_ground_m", cloud_base_above_ground_m, 0.0, 15000.0, "m");
+  require_in_range("cloud_thickness_m", cloud_thickness_m, 10.0, 10000.0, "m");
+  require_in_range("max_liquid_water_path_kg_m2", max_liquid_water_path_kg_m2, 0.0, 10.0, "kg/m^2");
   if (polynomial_degree < 2 || polynomial_degree > 24) {
     throw InvalidInput("polynomial_degree = " + std::to_string(polynomial_degree) +
                        " is outside [2, 24]");
@@ -66,6 +69,8 @@ const char* to_string(FastModelStatus status) {
       return "pwv outside the fast model's domain";
     case FastModelStatus::kElevationOutOfDomain:
       return "elevation outside the fast model's domain";
+    case FastModelStatus::kLiquidOutOfDomain:
+      return "liquid water path outside the fast model's domain";
     case FastModelStatus::kBufferSizeMismatch:
       return "output buffer size mismatch";
   }
@@ -184,6 +189,21 @@ FastSkyModel::FastSkyModel(const AtmosphereProfile& base_profile,
     }
   }
   for (double f : freq_ghz_) cosmic_k_.push_back(rj_brightness_k(f, cosmic_background_k_));
+  // Cloud: liquid content LWP / thickness spread over the overlapping share of each layer.
+  liquid_alpha_per_lwp_.assign(nl * nf, 0.0);
+  const double cloud_base = layers.front().base_m + options_.cloud_base_above_ground_m;
+  const double cloud_top = cloud_base + options_.cloud_thickness_m;
+  for (std::size_t i = 0; i < nl; ++i) {
+    const double overlap =
+        std::min(layers[i].top_m, cloud_top) - std::max(layers[i].base_m, cloud_base);
+    if (overlap <= 0.0) continue;
+    const double content_per_lwp = overlap / layers[i].thickness_m() / options_.cloud_thickness_m;
+    for (std::size_t f = 0; f < nf; ++f) {
+      liquid_alpha_per_lwp_[i * nf + f] =
+          content_per_lwp *
+          cloud_liquid_absorption_m2_per_kg(freq_ghz_[f], layers[i].temperature_k);
+    }
+  }
 }
 
 FastSkyModel::Workspace FastSkyModel::make_workspace() const {
@@ -198,6 +218,8 @@ FastSkyModel::Workspace FastSkyModel::make_workspace() const {
   ws.rj.resize(freq_ghz_.size());
   ws.d_rj_d_pwv.resize(freq_ghz_.size());
   ws.d_rj_d_t.resize(freq_ghz_.size());
+  ws.d_rj_d_lwp.resize(freq_ghz_.size());
+  ws.d_tau_d_lwp.resize(n);
   ws.t_below.resize(freq_ghz_.size());
   return ws;
 }
@@ -225,22 +247,28 @@ double FastSkyModel::wet_path_per_pwv_m_per_mm(double elevation_deg) const noexc
   return total;
 }
 
-FastModelStatus FastSkyModel::evaluate(
-    double pwv_mm,
-    double elevation_deg,
-    Workspace& ws,
-    std::span<double> brightness_k,
-    std::span<double> d_brightness_d_pwv_k_per_mm,
-    std::span<double> d_brightness_d_temperature) const noexcept {
+FastModelStatus FastSkyModel::evaluate(const FastSkyState& state,
+                                       Workspace& ws,
+                                       std::span<double> brightness_k,
+                                       const FastSkyJacobians& jacobians) const noexcept {
+  const double pwv_mm = state.pwv_mm;
+  const double lwp = state.liquid_water_path_kg_m2;
   if (!(pwv_mm >= 0.0 && pwv_mm <= options_.max_pwv_mm)) return FastModelStatus::kPwvOutOfDomain;
-  if (!(elevation_deg >= min_elevation_deg_ && elevation_deg <= 90.0)) {
+  if (!(state.elevation_deg >= min_elevation_deg_ && state.elevation_deg <= 90.0)) {
     return FastModelStatus::kElevationOutOfDomain;
   }
-  const bool want_pwv = !d_brightness_d_pwv_k_per_mm.empty();
-  const bool want_t = !d_brightness_d_temperature.empty();
-  if (brightness_k.size() != channel_count_ ||
-      (want_pwv && d_brightness_d_pwv_k_per_mm.size() != channel_count_) ||
-      (want_t && d_brightness_d_temperature.size() != channel_count_) ||
+  if (!(lwp >= 0.0 && lwp <= options_.max_liquid_water_path_kg_m2)) {
+    return FastModelStatus::kLiquidOutOfDomain;
+  }
+  const bool want_pwv = !jacobians.d_pwv_k_per_mm.empty();
+  const bool want_t = !jacobians.d_temperature.empty();
+  const bool want_lwp = !jacobians.d_liquid_k_per_kg_m2.empty();
+  auto size_ok = [&](std::span<double> s, bool wanted) {
+    return !wanted || s.size() == channel_count_;
+  };
+  if (brightness_k.size() != channel_count_ || !size_ok(jacobians.d_pwv_k_per_mm, want_pwv) ||
+      !size_ok(jacobians.d_temperature, want_t) ||
+      !size_ok(jacobians.d_liquid_k_per_kg_m2, want_lwp) ||
       ws.tau.size() != layer_count_ * freq_ghz_.size()) {
     return FastModelStatus::kBufferSizeMismatch;
   }
@@ -249,7 +277,7 @@ FastModelStatus FastSkyModel::evaluate(
   const std::size_t np = static_cast<std::size_t>(options_.polynomial_degree) + 1;
   const double x = 2.0 * pwv_mm / options_.max_pwv_mm - 1.0;
   const double dx_dpwv = 2.0 / options_.max_pwv_mm;
-  const double el = elevation_deg * std::numbers::pi / 180.0;
+  const double el = state.elevation_deg * std::numbers::pi / 180.0;
   const double invariant = ground_invariant_scale_ * std::cos(el);
   const double inv_sin = 1.0 / std::sin(el);
   for (std::size_t i = 0; i < nl; ++i) ws.path_m[i] = path_in_layer(i, invariant, inv_sin);
@@ -257,27 +285,33 @@ FastModelStatus FastSkyModel::evaluate(
   detail::evaluate_layer_polynomials(
       alpha_coeffs_.data(), d_alpha_dx_coeffs_.data(), d_alpha_dt_coeffs_.data(), ws.path_m.data(),
       nl, np, nf, x, dx_dpwv, ws.tau.data(), ws.d_tau_d_pwv.data(), ws.d_tau_d_t.data());
+  if (lwp > 0.0 || want_lwp) {
+    detail::add_liquid_opacity(liquid_alpha_per_lwp_.data(), ws.path_m.data(), nl, nf, lwp,
+                               ws.tau.data(), ws.d_tau_d_lwp.data());
+  }
   detail::exp_negative(ws.tau.data(), nl * nf, ws.transmission.data());
-
   detail::transfer_down(ws.transmission.data(), source_k_.data(), cosmic_k_.data(), nl, nf,
                         ws.from_above.data(), ws.rj.data());
-  if (want_pwv || want_t) {
-    detail::transfer_jacobians(ws.transmission.data(), source_k_.data(), d_source_dt_.data(),
-                               ws.from_above.data(), ws.d_tau_d_pwv.data(), ws.d_tau_d_t.data(), nl,
-                               nf, ws.t_below.data(), ws.d_rj_d_pwv.data(), ws.d_rj_d_t.data());
+  if (want_pwv || want_t || want_lwp) {
+    detail::transfer_jacobians(
+        ws.transmission.data(), source_k_.data(), d_source_dt_.data(), ws.from_above.data(),
+        ws.d_tau_d_pwv.data(), ws.d_tau_d_t.data(), want_lwp ? ws.d_tau_d_lwp.data() : nullptr, nl,
+        nf, ws.t_below.data(), ws.d_rj_d_pwv.data(), ws.d_rj_d_t.data(), ws.d_rj_d_lwp.data());
   }
   // Passband averages.
   for (std::size_t c = 0; c < channel_count_; ++c) {
     brightness_k[c] = 0.0;
-    if (want_pwv) d_brightness_d_pwv_k_per_mm[c] = 0.0;
-    if (want_t) d_brightness_d_temperature[c] = 0.0;
+    if (want_pwv) jacobians.d_pwv_k_per_mm[c] = 0.0;
+    if (want_t) jacobians.d_temperature[c] = 0.0;
+    if (want_lwp) jacobians.d_liquid_k_per_kg_m2[c] = 0.0;
   }
   for (std::size_t f = 0; f < nf; ++f) {
     const std::size_t c = channel_of_node_[f];
     const double w = node_weight_[f];
     brightness_k[c] += w * ws.rj[f];
-    if (want_pwv) d_brightness_d_pwv_k_per_mm[c] += w * ws.d_rj_d_pwv[f];
-    if (want_t) d_brightness_d_temperature[c] += w * ws.d_rj_d_t[f];
+    if (want_pwv) jacobians.d_pwv_k_per_mm[c] += w * ws.d_rj_d_pwv[f];
+    if (want_t) jacobians.d_temperature[c] += w * ws.d_rj_d_t[f];
+    if (want_lwp) jacobians.d_liquid_k_per_kg_m2[c] += w * ws.d_rj_d_lwp[f];
   }
   return FastModelStatus::kOk;
 }

@@ -11,6 +11,7 @@
 
 #include "p676_lines.hpp"
 #include "wvr/absorption.hpp"
+#include "wvr/error.hpp"
 
 namespace wvr {
 namespace {
@@ -48,12 +49,17 @@ void oxygen_terms(const S& p, const S& e, const S& theta, std::vector<LineTerm<S
   }
 }
 
+// The last entry of Table 2 is the 1780 GHz pseudo-line carrying the water-vapour continuum.
+constexpr double kContinuumPseudoLineGhz = 1780.0;
+
 template <typename S>
-void water_terms(const S& p, const S& e, const S& theta, std::vector<LineTerm<S>>& out) {
+void water_terms(
+    const S& p, const S& e, const S& theta, double continuum_scale, std::vector<LineTerm<S>>& out) {
   out.clear();
   for (const detail::P676Line& line : detail::kP676WaterLines) {
+    const double scale = line.f0_ghz == kContinuumPseudoLineGhz ? continuum_scale : 1.0;
     // eq. 3: S = b1 1e-1 e theta^3.5 exp[b2 (1 - theta)]
-    S strength = line.c1 * 1e-1 * e * pow(theta, 3.5) * exp(line.c2 * (1.0 - theta));
+    S strength = scale * line.c1 * 1e-1 * e * pow(theta, 3.5) * exp(line.c2 * (1.0 - theta));
     // eq. 6a/6b: width with Doppler term
     S width = line.c3 * 1e-4 * (p * pow(theta, line.c4) + line.c5 * e * pow(theta, line.c6));
     width = 0.535 * width +
@@ -88,7 +94,12 @@ S dry_continuum(double f, const S& p, const S& e, const S& theta) {
 
 class P676Annex1Model final : public AbsorptionModel {
  public:
-  std::string name() const override { return "ITU-R P.676-13 Annex 1"; }
+  explicit P676Annex1Model(double continuum_scale) : continuum_scale_(continuum_scale) {}
+
+  std::string name() const override {
+    if (continuum_scale_ == 1.0) return "ITU-R P.676-13 Annex 1";
+    return "ITU-R P.676-13 Annex 1 (water continuum x" + std::to_string(continuum_scale_) + ")";
+  }
 
   void absorption(std::span<const double> freq_ghz,
                   const GasState& state,
@@ -100,7 +111,7 @@ class P676Annex1Model final : public AbsorptionModel {
     thread_local std::vector<LineTerm<double>> ox;
     thread_local std::vector<LineTerm<double>> wv;
     oxygen_terms(p, e, theta, ox);
-    water_terms(p, e, theta, wv);
+    water_terms(p, e, theta, continuum_scale_, wv);
     for (std::size_t i = 0; i < freq_ghz.size(); ++i) {
       const double f = freq_ghz[i];
       const double n_ox = line_sum(f, ox) + dry_continuum(f, p, e, theta);
@@ -122,7 +133,7 @@ class P676Annex1Model final : public AbsorptionModel {
     thread_local std::vector<LineTerm<Jet>> ox;
     thread_local std::vector<LineTerm<Jet>> wv;
     oxygen_terms(p, e, theta, ox);
-    water_terms(p, e, theta, wv);
+    water_terms(p, e, theta, continuum_scale_, wv);
     for (std::size_t i = 0; i < freq_ghz.size(); ++i) {
       const double f = freq_ghz[i];
       const Jet n = line_sum(f, ox) + dry_continuum(f, p, e, theta) + line_sum(f, wv);
@@ -131,13 +142,22 @@ class P676Annex1Model final : public AbsorptionModel {
       partials[i] = {gamma.v[0], gamma.v[1], gamma.v[2]};
     }
   }
+
+ private:
+  double continuum_scale_;
 };
 
 }  // namespace
 
 std::shared_ptr<const AbsorptionModel> make_p676_annex1_model() {
-  static const std::shared_ptr<const AbsorptionModel> model = std::make_shared<P676Annex1Model>();
+  static const std::shared_ptr<const AbsorptionModel> model =
+      std::make_shared<P676Annex1Model>(1.0);
   return model;
+}
+
+std::shared_ptr<const AbsorptionModel> make_p676_annex1_model(double water_continuum_scale) {
+  require_in_range("water_continuum_scale", water_continuum_scale, 0.0, 10.0);
+  return std::make_shared<P676Annex1Model>(water_continuum_scale);
 }
 
 }  // namespace wvr

@@ -70,10 +70,11 @@ TEST(FastKernels, TransferPassesMatchLayerByLayerRecursion) {
     dtp[k] = unit(rng);
     dtt[k] = unit(rng) * 1e-3;
   }
-  std::vector<double> cosmic(nf, 1.0), above(t.size()), radiance(nf), below(nf), dp(nf), dT(nf);
+  std::vector<double> cosmic(nf, 1.0), above(t.size()), radiance(nf), below(nf), dp(nf), dT(nf),
+      dl(nf);
   transfer_down(t.data(), s.data(), cosmic.data(), nl, nf, above.data(), radiance.data());
-  transfer_jacobians(t.data(), s.data(), dsdt.data(), above.data(), dtp.data(), dtt.data(), nl, nf,
-                     below.data(), dp.data(), dT.data());
+  transfer_jacobians(t.data(), s.data(), dsdt.data(), above.data(), dtp.data(), dtt.data(),
+                     dtp.data(), nl, nf, below.data(), dp.data(), dT.data(), dl.data());
   for (std::size_t f = 0; f < nf; ++f) {
     // Brightness: sum of each layer's emission times the transmission below it.
     double j = 0.0, trans = 1.0;
@@ -94,6 +95,7 @@ TEST(FastKernels, TransferPassesMatchLayerByLayerRecursion) {
     }
     jp += cosmic[f] * trans;
     EXPECT_NEAR(dp[f], (jp - j) / h, 1e-4 * std::abs(dp[f]) + 1e-6);
+    EXPECT_DOUBLE_EQ(dl[f], dp[f]);  // same d tau given for both
   }
 }
 

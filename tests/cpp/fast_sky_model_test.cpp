@@ -111,3 +111,41 @@ TEST(FastSkyModel, WetPathMatchesExactSlantPath) {
 
 }  // namespace
 }  // namespace wvr
+
+namespace wvr {
+namespace {
+
+TEST(FastSkyModel, CloudLiquidMatchesExactModelAndItsJacobian) {
+  const AtmosphereProfile base = demo_profile();
+  const RadiometerConfig r = radiometer("demo-22-ssb.toml");
+  FastSkyModelOptions options;
+  options.cloud_base_above_ground_m = 800.0;
+  options.cloud_thickness_m = 600.0;
+  const SkyModel exact;
+  const FastSkyModel fast(base, r, exact, options);
+  auto ws = fast.make_workspace();
+  const std::size_t n = fast.channel_count();
+  std::vector<double> tb(n), dl(n), up(n), down(n);
+  for (double lwp : {0.0, 0.05, 0.3}) {
+    const FastSkyState state{1.5, 50.0, lwp};
+    ASSERT_EQ(fast.evaluate(state, ws, tb, FastSkyJacobians{{}, {}, dl}), FastModelStatus::kOk);
+    const ChannelBrightness c =
+        exact.channels(base.scaled_to_pwv(1.5).with_cloud(800.0, 600.0, lwp), r, 50.0);
+    for (std::size_t k = 0; k < n; ++k) EXPECT_NEAR(tb[k], c.brightness_k[k], 0.02) << lwp;
+    const double h = 1e-4;
+    fast.evaluate(FastSkyState{1.5, 50.0, lwp + h}, ws, up);
+    fast.evaluate(FastSkyState{1.5, 50.0, std::max(lwp - h, 0.0)}, ws, down);
+    for (std::size_t k = 0; k < n; ++k) {
+      const double fd = (up[k] - down[k]) / (lwp > 0 ? 2 * h : h);
+      EXPECT_NEAR(dl[k], fd, 1e-4 * std::abs(fd)) << lwp;
+    }
+  }
+  // 31 GHz window (channel k4) responds to liquid far more than to vapour per kg/m^2.
+  fast.evaluate(FastSkyState{1.5, 50.0, 0.1}, ws, tb, FastSkyJacobians{{}, {}, dl});
+  EXPECT_GT(dl[3], 5.0);
+  EXPECT_EQ(fast.evaluate(FastSkyState{1.5, 50.0, -0.1}, ws, tb),
+            FastModelStatus::kLiquidOutOfDomain);
+}
+
+}  // namespace
+}  // namespace wvr

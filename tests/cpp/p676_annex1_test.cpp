@@ -8,6 +8,7 @@
 
 #include "test_util.hpp"
 #include "wvr/absorption.hpp"
+#include "wvr/error.hpp"
 
 namespace wvr {
 namespace {
@@ -92,6 +93,29 @@ TEST(P676Annex1, PartialDerivativesMatchFiniteDifferences) {
     EXPECT_NEAR(partials[i].d_temperature_per_k, (total_at(a, i) - total_at(b, i)) / (2 * ht),
                 1e-6 * std::abs(partials[i].d_temperature_per_k) + 1e-15);
   }
+}
+
+}  // namespace
+}  // namespace wvr
+
+namespace wvr {
+namespace {
+
+TEST(P676Annex1, ContinuumScaleChangesOnlyThePseudoLine) {
+  const std::vector<double> f = {183.31, 230.0, 650.0};
+  const GasState state{550.0, 2.0, 268.0};
+  std::vector<double> dry1(3), water1(3), dry2(3), water2(3);
+  make_p676_annex1_model()->absorption(f, state, dry1, water1);
+  make_p676_annex1_model(1.12)->absorption(f, state, dry2, water2);
+  for (std::size_t i = 0; i < f.size(); ++i) {
+    EXPECT_EQ(dry1[i], dry2[i]);
+    EXPECT_GT(water2[i], water1[i]);
+  }
+  // In the 230 GHz window the continuum is a large share of the water absorption; at the
+  // 183 GHz line centre it is negligible.
+  EXPECT_GT(water2[1] / water1[1] - 1.0, 0.02);
+  EXPECT_LT(water2[0] / water1[0] - 1.0, 3e-3);
+  EXPECT_THROW(make_p676_annex1_model(-1.0), InvalidInput);
 }
 
 }  // namespace

@@ -56,6 +56,11 @@ class AbsorptionModel {
 // (eqs. 1-9). Valid 1-1000 GHz.
 std::shared_ptr<const AbsorptionModel> make_p676_annex1_model();
 
+// The same model with the strength of the 1780 GHz pseudo-line (P.676's representation of the
+// water-vapour continuum) multiplied by water_continuum_scale, e.g. 1.12 for a continuum 12 %
+// stronger: used to simulate skies that differ from the retrieval's model.
+std::shared_ptr<const AbsorptionModel> make_p676_annex1_model(double water_continuum_scale);
+
 // Specific attenuation in dB/km (the P.676 unit) from a coefficient in Np/m.
 inline double db_per_km_from_np_per_m(double np_per_m) { return np_per_m * 4342.944819032518; }
 

@@ -30,7 +30,12 @@
 namespace wvr {
 
 struct FastSkyModelOptions {
-  double max_pwv_mm = 12.0;   // upper end of the PWV domain (the lower end is 0)
+  double max_pwv_mm = 12.0;  // upper end of the PWV domain (the lower end is 0)
+  // Cloud liquid enters as a uniform layer at a fixed height; its absorption is linear in the
+  // liquid water path (Rayleigh regime, ITU-R P.840), so it needs no polynomial.
+  double cloud_base_above_ground_m = 1000.0;
+  double cloud_thickness_m = 1000.0;
+  double max_liquid_water_path_kg_m2 = 2.0;
   int polynomial_degree = 6;  // 5e-9 K interpolation error for the demo radiometers
 
   void validate() const;
@@ -40,7 +45,22 @@ enum class FastModelStatus {
   kOk = 0,
   kPwvOutOfDomain,        // pwv_mm < 0, > max_pwv_mm or NaN
   kElevationOutOfDomain,  // outside [min_elevation_deg, 90] or NaN
+  kLiquidOutOfDomain,     // liquid_water_path_kg_m2 < 0, above the maximum or NaN
   kBufferSizeMismatch,    // an output span is not channel_count() long
+};
+
+// The per-sample state the fast model is evaluated at.
+struct FastSkyState {
+  double pwv_mm = 0.0;
+  double elevation_deg = 90.0;
+  double liquid_water_path_kg_m2 = 0.0;
+};
+
+// Optional outputs: each span is either empty (not computed) or channel_count() long.
+struct FastSkyJacobians {
+  std::span<double> d_pwv_k_per_mm;        // per mm of zenith PWV
+  std::span<double> d_temperature;         // per K of profile temperature offset
+  std::span<double> d_liquid_k_per_kg_m2;  // per kg/m^2 of zenith liquid water path
 };
 
 const char* to_string(FastModelStatus status);
@@ -55,7 +75,7 @@ class FastSkyModel {
    private:
     friend class FastSkyModel;
     std::vector<double> path_m, tau, transmission, d_tau_d_pwv, d_tau_d_t, from_above;
-    std::vector<double> rj, d_rj_d_pwv, d_rj_d_t, t_below;
+    std::vector<double> rj, d_rj_d_pwv, d_rj_d_t, d_rj_d_lwp, d_tau_d_lwp, t_below;
   };
 
   // Precomputes the tables for `radiometer` on the layers, temperatures and vapour shape of
@@ -73,15 +93,24 @@ class FastSkyModel {
 
   Workspace make_workspace() const;
 
-  // Channel brightness (RJ-equivalent, K) and, when the spans are non-empty, its derivative
-  // per mm of zenith PWV and per K of profile temperature offset (same definitions as
-  // SkyModel::channels). Never throws and never allocates after make_workspace().
+  // Channel brightness (RJ-equivalent, K) at `state` and the requested Jacobians (same
+  // definitions as SkyModel::channels). Never throws and never allocates after
+  // make_workspace(); out-of-domain input returns a status and leaves the outputs unset.
+  FastModelStatus evaluate(const FastSkyState& state,
+                           Workspace& workspace,
+                           std::span<double> brightness_k,
+                           const FastSkyJacobians& jacobians = {}) const noexcept;
+
+  // Clear-sky shorthand.
   FastModelStatus evaluate(double pwv_mm,
                            double elevation_deg,
                            Workspace& workspace,
                            std::span<double> brightness_k,
                            std::span<double> d_brightness_d_pwv_k_per_mm = {},
-                           std::span<double> d_brightness_d_temperature = {}) const noexcept;
+                           std::span<double> d_brightness_d_temperature = {}) const noexcept {
+    return evaluate(FastSkyState{pwv_mm, elevation_deg, 0.0}, workspace, brightness_k,
+                    FastSkyJacobians{d_brightness_d_pwv_k_per_mm, d_brightness_d_temperature, {}});
+  }
 
   // Slant wet path (m) per mm of zenith PWV at an elevation, on the base-profile geometry.
   double wet_path_per_pwv_m_per_mm(double elevation_deg) const noexcept;
@@ -106,7 +135,10 @@ class FastSkyModel {
   // x = 2 pwv / max_pwv - 1.
   std::vector<double> alpha_coeffs_, d_alpha_dx_coeffs_, d_alpha_dt_coeffs_;
   std::vector<double> source_k_, d_source_dt_;  // [layer][freq]
-  std::vector<double> cosmic_k_;                // [freq]
+  // Absorption coefficient (Np/m) per kg/m^2 of liquid water path, [layer][freq]; zero
+  // outside the cloud.
+  std::vector<double> liquid_alpha_per_lwp_;
+  std::vector<double> cosmic_k_;  // [freq]
 };
 
 }  // namespace wvr
