@@ -38,6 +38,7 @@
 #include <unsupported/Eigen/FFT>
 #include <vector>
 
+#include "gaussian_random.hpp"
 #include "phase_screen_detail.hpp"
 #include "wvr/phase_screen.hpp"
 
@@ -49,18 +50,8 @@ constexpr double kPi = std::numbers::pi;
 // Columns transformed together in the across-wind pass, so each gathered cache line is used.
 constexpr std::size_t kColumnBlock = 8;
 
-// Uniform deviate in (0, 1] from the top 53 bits of the engine (its output is fully
-// specified by the standard for std::mt19937_64, unlike std::normal_distribution's).
-double uniform_open(std::mt19937_64& rng) {
-  return (static_cast<double>(rng() >> 11) + 1.0) * 0x1.0p-53;
-}
-
-// Box-Muller: real and imaginary parts are independent standard normal deviates (E|z|^2 = 2).
-Complex complex_gaussian(std::mt19937_64& rng) {
-  const double radius = std::sqrt(-2.0 * std::log(uniform_open(rng)));
-  const double angle = 2.0 * kPi * uniform_open(rng);
-  return {radius * std::cos(angle), radius * std::sin(angle)};
-}
+using detail::complex_gaussian;
+using detail::uniform_open;
 
 // Signed FFT frequency index of bin i in a length-n transform.
 double signed_bin(std::size_t i, std::size_t n) {

@@ -8,5 +8,7 @@ namespace skyphase {
 void add_spectrum_command(CLI::App& app);
 void add_absorption_command(CLI::App& app);
 void add_channels_command(CLI::App& app);
+void add_simulate_command(CLI::App& app);
+void add_inspect_command(CLI::App& app);
 
 }  // namespace skyphase

@@ -16,6 +16,8 @@ int main(int argc, char** argv) {
   skyphase::add_spectrum_command(app);
   skyphase::add_absorption_command(app);
   skyphase::add_channels_command(app);
+  skyphase::add_simulate_command(app);
+  skyphase::add_inspect_command(app);
   try {
     app.parse(argc, argv);
   } catch (const CLI::CallForHelp& e) {

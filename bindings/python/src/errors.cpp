@@ -1,0 +1,43 @@
+// libwvr's C++ exceptions as Python exceptions:
+//   wvr::Error        -> wvr.WvrError(Exception)
+//   wvr::InvalidInput -> wvr.WvrValueError(WvrError, ValueError)
+// so callers can catch either the library's base error or the built-in ValueError.
+#include "common.hpp"
+#include "wvr/error.hpp"
+
+namespace wvr::python {
+namespace {
+
+// Owned references, created once at import and deliberately never released: translators may
+// run until interpreter shutdown, and the module dict holds them too.
+PyObject* g_wvr_error = nullptr;
+PyObject* g_wvr_value_error = nullptr;
+
+}  // namespace
+
+void export_errors(py::module_& m) {
+  g_wvr_error = PyErr_NewExceptionWithDoc(
+      "wvr.WvrError", "Base class of every error raised by libwvr.", PyExc_Exception, nullptr);
+  if (g_wvr_error == nullptr) throw py::error_already_set();
+  py::tuple bases = py::make_tuple(py::handle(g_wvr_error), py::handle(PyExc_ValueError));
+  g_wvr_value_error = PyErr_NewExceptionWithDoc(
+      "wvr.WvrValueError",
+      "Bad input: out-of-range or non-finite values, malformed configuration, unreadable or "
+      "inconsistent files. The message names the offending field and its value.",
+      bases.ptr(), nullptr);
+  if (g_wvr_value_error == nullptr) throw py::error_already_set();
+  m.add_object("WvrError", py::handle(g_wvr_error));
+  m.add_object("WvrValueError", py::handle(g_wvr_value_error));
+
+  py::register_exception_translator([](std::exception_ptr error) {
+    try {
+      if (error) std::rethrow_exception(error);
+    } catch (const InvalidInput& e) {
+      PyErr_SetString(g_wvr_value_error, e.what());
+    } catch (const Error& e) {
+      PyErr_SetString(g_wvr_error, e.what());
+    }
+  });
+}
+
+}  // namespace wvr::python

@@ -1,0 +1,24 @@
+#pragma once
+// Helpers shared by the night file sources (validation, reading, writing, summary).
+
+#include <optional>
+#include <string>
+
+#include "wvr/night.hpp"
+#include "wvr/radiometer.hpp"
+
+namespace wvr::detail {
+
+// Shortest text that reads back to the same double ("512", "0.1", "nan").
+std::string format_number(double value);
+
+// File spellings of the enumerations: "double"/"upper"/"lower", "calibrator"/"target".
+std::string sideband_name(Sideband sideband);
+std::optional<Sideband> parse_sideband(const std::string& name);
+std::optional<ScanIntent> parse_intent(const std::string& name);
+
+// Checks one result group on its own (names, shapes, units, attributes); `source` starts
+// the message.
+void validate_result_group(const ResultGroup& group, const std::string& source);
+
+}  // namespace wvr::detail
