@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
 # The README's first command: installs what is missing, builds, and runs the main job on the
-# bundled demo: the channel model of the demo 183 GHz radiometer at the demo site.
+# bundled demo: the channel model of the demo 183 GHz radiometer at the demo site, then a
+# simulated 2-hour night of the demo array (simulate -> inspect -> retrieve).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 tools/build.sh > build.log 2>&1 || { tail -n 40 build.log; exit 1; }
@@ -8,3 +9,11 @@ build/tools/skyphase channels \
   --site testdata/sites/demo-site.toml \
   --radiometer testdata/radiometers/demo-183-dsb.toml \
   --pwv-mm 0.5,1,2,4 --elevation-deg 30,60,90
+mkdir -p out
+echo
+build/tools/skyphase simulate testdata/demo-scenario.toml -o out/demo-night.h5 --overwrite
+echo
+build/tools/skyphase inspect out/demo-night.h5
+echo
+build/tools/skyphase retrieve out/demo-night.h5 -o out/demo-retrieved.h5 \
+  --site testdata/sites/demo-site.toml --overwrite

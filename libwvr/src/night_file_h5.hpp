@@ -53,9 +53,14 @@ class QuietErrors {
 // sblock->base_addr = 0, stored_eof = 9120"; empty when the stack is empty.
 std::string error_stack_text();
 
+// `message` followed by ": " and error_stack_text() when the stack holds a cause.
+std::string with_cause(const std::string& message);
+
 // Shapes use HDF5's own extent type.
 using Shape = std::vector<hsize_t>;
 std::string shape_text(const Shape& shape);
+// Number of elements of a shape (1 for a scalar).
+hsize_t element_count(const Shape& shape);
 
 // ---- reading ----------------------------------------------------------------------------
 

@@ -112,9 +112,10 @@ class ChannelCost final : public ceres::CostFunction {
     const double* x = parameters[0];
     const std::size_t nc = model_.channel_count();
     const double liquid = layout_.liquid >= 0 ? x[layout_.liquid] : 0.0;
-    const double dt = layout_.temperature >= 0 ? x[layout_.temperature] : 0.0;
+    const double dt =
+        input_.temperature_offset_k + (layout_.temperature >= 0 ? x[layout_.temperature] : 0.0);
     const double gain = layout_.gain >= 0 ? x[layout_.gain] : 1.0;
-    const bool want_t = layout_.temperature >= 0;
+    const bool want_t = layout_.temperature >= 0 || input_.temperature_offset_k != 0.0;
     FastSkyJacobians jac{d_pwv_, want_t ? std::span<double>(d_t_) : std::span<double>(),
                          layout_.liquid >= 0 ? std::span<double>(d_liquid_) : std::span<double>()};
     last_status_ = model_.evaluate(FastSkyState{x[0], input_.elevation_deg, liquid}, ws_, tb_, jac);
@@ -133,7 +134,7 @@ class ChannelCost final : public ceres::CostFunction {
       double* row = j + c * static_cast<std::size_t>(p);
       row[0] = gain * d_pwv_[c] * inv_sigma;
       if (layout_.liquid >= 0) row[layout_.liquid] = gain * d_liquid_[c] * inv_sigma;
-      if (want_t) row[layout_.temperature] = gain * d_t_[c] * inv_sigma;
+      if (layout_.temperature >= 0) row[layout_.temperature] = gain * d_t_[c] * inv_sigma;
       if (layout_.offsets >= 0) row[layout_.offsets + static_cast<int>(c)] = inv_sigma;
       if (layout_.gain >= 0) row[layout_.gain] = model_k * inv_sigma;
     }
@@ -149,7 +150,7 @@ class ChannelCost final : public ceres::CostFunction {
     if (layout_.liquid >= 0 && options_.liquid_prior_kg_m2) {
       prior(layout_.liquid, options_.liquid_prior_kg_m2->mean, options_.liquid_prior_kg_m2->sigma);
     }
-    if (want_t && options_.temperature_offset_prior_k) {
+    if (layout_.temperature >= 0 && options_.temperature_offset_prior_k) {
       prior(layout_.temperature, options_.temperature_offset_prior_k->mean,
             options_.temperature_offset_prior_k->sigma);
     }

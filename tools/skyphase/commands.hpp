@@ -10,5 +10,6 @@ void add_absorption_command(CLI::App& app);
 void add_channels_command(CLI::App& app);
 void add_simulate_command(CLI::App& app);
 void add_inspect_command(CLI::App& app);
+void add_retrieve_command(CLI::App& app);
 
 }  // namespace skyphase

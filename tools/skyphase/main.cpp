@@ -18,6 +18,7 @@ int main(int argc, char** argv) {
   skyphase::add_channels_command(app);
   skyphase::add_simulate_command(app);
   skyphase::add_inspect_command(app);
+  skyphase::add_retrieve_command(app);
   try {
     app.parse(argc, argv);
   } catch (const CLI::CallForHelp& e) {

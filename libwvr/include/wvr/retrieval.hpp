@@ -58,7 +58,11 @@ struct RetrievalInput {
   std::span<const double> brightness_k;  // one value per channel
   std::span<const double> noise_k;       // rms noise per channel (> 0)
   double elevation_deg = 90.0;
-  double initial_pwv_mm = -1.0;  // < 0: start from a table lookup
+  double initial_pwv_mm = -1.0;  // < 0: start from a coarse scan of the model
+  // Known offset of this sample's profile temperature from the model's base profile (e.g. the
+  // measured surface temperature minus the model's), applied through the model's linear
+  // temperature term; a fitted offset adds to it.
+  double temperature_offset_k = 0.0;
 };
 
 enum class RetrievalStatus {
