@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # The README's first command: installs what is missing, builds, and runs the main job on the
 # bundled demo: the channel model of the demo 183 GHz radiometer at the demo site, then a
-# simulated 2-hour night of the demo array (simulate -> inspect -> retrieve).
+# simulated 2-hour night of the demo array through the whole chain
+# (simulate -> inspect -> retrieve -> calibrate -> correct) with a before/after summary.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 tools/build.sh > build.log 2>&1 || { tail -n 40 build.log; exit 1; }
@@ -16,4 +17,10 @@ echo
 build/tools/skyphase inspect out/demo-night.h5
 echo
 build/tools/skyphase retrieve out/demo-night.h5 -o out/demo-retrieved.h5 \
+  --site testdata/sites/demo-site.toml --overwrite
+echo
+build/tools/skyphase calibrate out/demo-retrieved.h5 -o out/demo-calibrated.h5 \
+  --site testdata/sites/demo-site.toml --overwrite
+echo
+build/tools/skyphase correct out/demo-calibrated.h5 -o out/demo-corrected.h5 \
   --site testdata/sites/demo-site.toml --overwrite

@@ -138,6 +138,9 @@ NightRetrieval retrieve_night(const Night& night,
   out.path_sensitivity_k_per_mm.assign(na * nw * nc, std::nan(""));
   out.combination_weight_mm_per_k.assign(na * nw * nc, std::nan(""));
   out.path_noise_mm.assign(na * nw, std::nan(""));
+  out.window_model_brightness_k.assign(na * nw * nc, std::nan(""));
+  out.window_wet_path_mm.assign(na * nw, std::nan(""));
+  out.window_elevation_deg.assign(na * nw, std::nan(""));
 
   // Per thread and temperature node: a retriever and a model workspace.
   struct NodeTools {
@@ -225,6 +228,10 @@ NightRetrieval retrieve_night(const Night& night,
       model.evaluate(FastSkyState{fit.pwv_mm, el, fit.liquid_kg_m2}, it->second.workspace, tb_model,
                      FastSkyJacobians{d_pwv, {}, {}});
       const double wet_mm_per_pwv = model.wet_path_per_pwv_m_per_mm(el) * 1000.0;
+      out.window_wet_path_mm[aw] = fit.pwv_mm * wet_mm_per_pwv;
+      out.window_elevation_deg[aw] = el;
+      for (std::size_t c = 0; c < nc; ++c)
+        out.window_model_brightness_k[aw * nc + c] = fit.model_brightness_k[c];
       double information = 0.0;
       for (std::size_t c = 0; c < nc; ++c) {
         const double s = d_pwv[c] / wet_mm_per_pwv;
@@ -282,6 +289,9 @@ ResultGroup to_result_group(const NightRetrieval& r, const Night& night) {
   add("path_sensitivity_k_per_mm", {a, w, c}, r.path_sensitivity_k_per_mm, "K/mm");
   add("combination_weight_mm_per_k", {a, w, c}, r.combination_weight_mm_per_k, "mm/K");
   add("path_noise_mm", {a, w}, r.path_noise_mm, "mm");
+  add("window_model_brightness_k", {a, w, c}, r.window_model_brightness_k, "K");
+  add("window_wet_path_mm", {a, w}, r.window_wet_path_mm, "mm");
+  add("window_elevation_deg", {a, w}, r.window_elevation_deg, "deg");
   (void)night;
   return g;
 }

@@ -9,6 +9,7 @@
 #include "gaussian_random.hpp"
 #include "wvr/atmosphere.hpp"
 #include "wvr/constants.hpp"
+#include "wvr/dispersion.hpp"
 #include "wvr/error.hpp"
 #include "wvr/fast_sky_model.hpp"
 #include "wvr/water_vapour.hpp"
@@ -272,6 +273,8 @@ Night simulate_night(const Scenario& s,
   const double radians_per_m =
       2.0 * std::numbers::pi * s.observing.obs_freq_ghz * 1e9 / constants::speed_of_light_m_per_s;
   const double noise_rad = s.observing.thermal_phase_noise_deg * kDeg;
+  // Wet path is dispersive near water lines (wvr/dispersion.hpp); dry path is not.
+  const double wet_factor = wet_phase_per_path_factor(s.observing.obs_freq_ghz, shape);
   detail::GaussianSource phase_noise(s.seed * 15485863ULL + 3);
   std::size_t scan = 0;
   for (std::size_t k = 0; k < nt; ++k) {
@@ -284,8 +287,10 @@ Night simulate_night(const Scenario& s,
     for (std::size_t a = 0; a < na; ++a) {
       for (std::size_t b = a + 1; b < na; ++b) {
         if (!s.observing.all_baselines && a != 0) break;
-        const double path_a = truth.wet_path_m[a * nt + k] + truth.dry_path_m[a * nt + k];
-        const double path_b = truth.wet_path_m[b * nt + k] + truth.dry_path_m[b * nt + k];
+        const double path_a =
+            wet_factor * truth.wet_path_m[a * nt + k] + truth.dry_path_m[a * nt + k];
+        const double path_b =
+            wet_factor * truth.wet_path_m[b * nt + k] + truth.dry_path_m[b * nt + k];
         double phase = radians_per_m * (path_b - path_a) + noise_rad * phase_noise.next();
         phase = std::remainder(phase, 2.0 * std::numbers::pi);  // (-pi, pi]
         if (phase <= -std::numbers::pi) phase += 2.0 * std::numbers::pi;

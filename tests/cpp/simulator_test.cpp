@@ -9,6 +9,7 @@
 
 #include "test_util.hpp"
 #include "wvr/constants.hpp"
+#include "wvr/dispersion.hpp"
 #include "wvr/error.hpp"
 #include "wvr/fast_sky_model.hpp"
 
@@ -105,6 +106,9 @@ TEST(Simulator, CalibratorPhasesFollowTheTruePathDifference) {
   const Night night = simulate_night(s);
   const std::size_t nt = night.time_count();
   const double k = 2.0 * std::numbers::pi * 230e9 / constants::speed_of_light_m_per_s;
+  SiteParameters site = s.site.parameters;
+  site.pwv_mm = 1.0;
+  const double factor = wet_phase_per_path_factor(230.0, make_parametric_profile(site));
   double sum2 = 0.0;
   std::size_t rows = night.calibrator_phases.time_s.size();
   ASSERT_GT(rows, 0u);
@@ -115,7 +119,7 @@ TEST(Simulator, CalibratorPhasesFollowTheTruePathDifference) {
     const std::size_t i = static_cast<std::size_t>(t);
     const auto path = [&](int ant) {
       const std::size_t at = static_cast<std::size_t>(ant) * nt + i;
-      return night.truth->wet_path_m[at] + night.truth->dry_path_m[at];
+      return factor * night.truth->wet_path_m[at] + night.truth->dry_path_m[at];
     };
     const double expected = k * (path(b) - path(a));
     const double phase = night.calibrator_phases.phase_rad[r];

@@ -11,5 +11,7 @@ void add_channels_command(CLI::App& app);
 void add_simulate_command(CLI::App& app);
 void add_inspect_command(CLI::App& app);
 void add_retrieve_command(CLI::App& app);
+void add_calibrate_command(CLI::App& app);
+void add_correct_command(CLI::App& app);
 
 }  // namespace skyphase

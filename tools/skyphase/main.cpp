@@ -19,6 +19,8 @@ int main(int argc, char** argv) {
   skyphase::add_simulate_command(app);
   skyphase::add_inspect_command(app);
   skyphase::add_retrieve_command(app);
+  skyphase::add_calibrate_command(app);
+  skyphase::add_correct_command(app);
   try {
     app.parse(argc, argv);
   } catch (const CLI::CallForHelp& e) {

@@ -20,4 +20,8 @@ PYBIND11_MODULE(_core, m) {
   wp::export_radiometer(m);
   wp::export_sky_model(m);
   wp::export_fast_sky_model(m);
+  // Night before the simulator and the retrieval, which return nights and result groups.
+  wp::export_night(m);
+  wp::export_simulator(m);
+  wp::export_retrieval(m);
 }

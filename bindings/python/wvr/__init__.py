@@ -15,8 +15,20 @@ Example::
     channels = sky.channels(profile, radiometer, elevation_deg=45.0)
     fast = wvr.FastSkyModel(profile, radiometer, sky)
     night = fast.evaluate_many(pwv_mm_array, elevation_deg_array)
+
+Nights (night files, the simulator and the retrieval)::
+
+    scenario = wvr.load_scenario("demo-scenario.toml").with_overrides(
+        duration_s=600.0, antenna_count=6)
+    night = wvr.simulate_night(scenario)
+    wvr.write_night(night, "night.h5")
+    night = wvr.read_night("night.h5")            # night.brightness_k: [antenna, time, channel]
+    retrieval = wvr.retrieve_night(night, scenario.site)
+    print(retrieval.summary()["pwv_median_mm"])
+    wvr.add_result_group("night.h5", "night-retrieved.h5", retrieval.to_result_group(night))
 """
 
+import collections.abc as _collections_abc
 import enum as _enum
 
 from wvr import _core
@@ -24,7 +36,14 @@ from wvr._core import (
     AtmosphereProfile,
     ChannelBrightness,
     FastSkyModel,
+    Night,
+    NightRetrieval,
+    PwvTable,
     Radiometer,
+    ResultGroup,
+    RetrievalResult,
+    Retriever,
+    Scenario,
     SiteConfig,
     SkyModel,
     SkySpectrum,
@@ -34,22 +53,32 @@ from wvr._core import (
     __version__,
     absorption,
     absorption_model_name,
+    add_result_group,
     bevis_wet_delay_per_pwv,
     cloud_liquid_absorption_m2_per_kg,
     cloud_liquid_specific_attenuation,
+    describe_retrieval_flags,
+    format_night_summary,
+    load_scenario,
     load_site,
     p835_reference_vapour_density_kg_m3,
     parametric_profile,
+    parse_scenario,
     parse_site,
     planck_brightness_k,
     profile_from_site,
     profile_from_sounding,
+    read_night,
     read_sounding_csv,
+    retrieve_night,
     rj_brightness_k,
     saastamoinen_zenith_hydrostatic_delay_m,
     saturation_vapour_pressure_hpa,
+    simulate_night,
+    summarize_night,
     us_standard_atmosphere_1976,
     vapour_pressure_hpa,
+    write_night,
 )
 
 
@@ -68,12 +97,59 @@ FastModelStatus.__doc__ = (
     + ", ".join(f"{s.name} = {s.value}" for s in FastModelStatus) + ".")
 
 
+class _PwvTableStatusBase(_enum.IntEnum):
+    @property
+    def description(self) -> str:
+        """What the code means, in words."""
+        return _core._pwv_table_status_description(int(self))
+
+
+PwvTableStatus = _PwvTableStatusBase(
+    "PwvTableStatus", _core._PWV_TABLE_STATUS_CODES, module=__name__, qualname="PwvTableStatus")
+PwvTableStatus.__doc__ = (
+    "Status codes of PwvTable.invert and invert_many (their 'status'): "
+    + ", ".join(f"{s.name} = {s.value}" for s in PwvTableStatus) + ".")
+
+
+class _RetrievalFlagBase(_enum.IntFlag):
+    @property
+    def description(self) -> str:
+        """The set bits in words, e.g. "bad brightness, no weather"."""
+        return _core.describe_retrieval_flags(int(self))
+
+
+# Bits of NightRetrieval.flags and window_flags, taken from the library.
+RetrievalFlag = _RetrievalFlagBase(
+    "RetrievalFlag", _core._RETRIEVAL_FLAG_CODES, module=__name__, qualname="RetrievalFlag")
+RetrievalFlag.__doc__ = (
+    "Flag bits of NightRetrieval.flags and window_flags: "
+    + ", ".join(f"{s.name} = {s.value}" for s in RetrievalFlag)
+    + ". RETRIEVAL_UNUSABLE masks the bits after which a PWV is not usable; NO_WEATHER is "
+    "advisory.")
+
+#: Bits of RetrievalFlag after which the retrieved PWV is not usable.
+RETRIEVAL_UNUSABLE = RetrievalFlag(_core._RETRIEVAL_UNUSABLE)
+
+# A result group reads like a dict name -> array.
+_collections_abc.Mapping.register(ResultGroup)
+
+
 __all__ = [
     "AtmosphereProfile",
     "ChannelBrightness",
     "FastModelStatus",
     "FastSkyModel",
+    "Night",
+    "NightRetrieval",
+    "PwvTable",
+    "PwvTableStatus",
+    "RETRIEVAL_UNUSABLE",
     "Radiometer",
+    "ResultGroup",
+    "RetrievalFlag",
+    "RetrievalResult",
+    "Retriever",
+    "Scenario",
     "SiteConfig",
     "SkyModel",
     "SkySpectrum",
@@ -83,20 +159,30 @@ __all__ = [
     "__version__",
     "absorption",
     "absorption_model_name",
+    "add_result_group",
     "bevis_wet_delay_per_pwv",
     "cloud_liquid_absorption_m2_per_kg",
     "cloud_liquid_specific_attenuation",
+    "describe_retrieval_flags",
+    "format_night_summary",
+    "load_scenario",
     "load_site",
     "p835_reference_vapour_density_kg_m3",
     "parametric_profile",
+    "parse_scenario",
     "parse_site",
     "planck_brightness_k",
     "profile_from_site",
     "profile_from_sounding",
+    "read_night",
     "read_sounding_csv",
+    "retrieve_night",
     "rj_brightness_k",
     "saastamoinen_zenith_hydrostatic_delay_m",
     "saturation_vapour_pressure_hpa",
+    "simulate_night",
+    "summarize_night",
     "us_standard_atmosphere_1976",
     "vapour_pressure_hpa",
+    "write_night",
 ]

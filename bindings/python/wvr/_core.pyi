@@ -7,7 +7,8 @@ WvrValueError (a WvrError and a ValueError) whose message names the field and it
 """
 
 import os
-from typing import Any, Dict, List, Optional, Sequence, Tuple, TypedDict, Union
+from collections.abc import Mapping
+from typing import Any, Dict, List, Optional, Sequence, Tuple, TypedDict, Union, overload
 
 import numpy as np
 import numpy.typing as npt
@@ -396,3 +397,462 @@ class FastSkyModel:
     def wet_path_per_pwv_m_per_mm(
         self, elevation_deg: ArrayLike
     ) -> Union[float, FloatArray]: ...  # m/mm; broadcasting
+
+# --- nights ---------------------------------------------------------------------------------
+# Shapes: A antennas, T radiometer samples, C channels, W weather samples, P phase rows.
+
+UInt8Array = npt.NDArray[np.uint8]
+Int32Array = npt.NDArray[np.int32]
+
+class ScanDict(TypedDict):
+    start_s: float  # s after time_epoch_utc
+    stop_s: float  # s
+    intent: str  # "calibrator" or "target"
+    source: str
+    obs_freq_ghz: float  # GHz, the array's sky frequency
+
+class WeatherDict(TypedDict):
+    time_s: FloatArray  # s, [W], strictly increasing
+    temperature_k: FloatArray  # K, [W]
+    pressure_hpa: FloatArray  # hPa, [W]
+    relative_humidity_pct: FloatArray  # %, [W]
+
+class CalibratorPhasesDict(TypedDict):
+    time_s: FloatArray  # s, [P], non-decreasing
+    antenna_pair: Int32Array  # [P, 2]
+    phase_rad: FloatArray  # rad, [P]: phase(pair[:, 1]) - phase(pair[:, 0])
+    freq_ghz: FloatArray  # GHz, [P]
+
+class EpisodeDict(TypedDict):
+    start_s: float  # s
+    stop_s: float  # s
+    antenna: int  # antenna index or -1 for the whole array
+    label: str
+
+class TruthDict(TypedDict, total=False):
+    wet_path_m: FloatArray  # m, [A, T] (required)
+    dry_path_m: FloatArray  # m, [A, T] (required)
+    pwv_mm: FloatArray  # mm, [A, T] (required)
+    episodes: List[EpisodeDict]
+
+# (array, units) or (array, units, attributes)
+DatasetSpec = Union[Tuple[ArrayLike, str], Tuple[ArrayLike, str, Dict[str, str]]]
+
+class ResultGroup(Mapping[str, np.ndarray]):
+    """Read-only mapping dataset name -> numpy array of one processing stage
+    (__getitem__, __contains__ and __iter__ as a Mapping's)."""
+
+    def __init__(
+        self,
+        stage: str,
+        datasets: Dict[str, DatasetSpec],
+        attributes: Optional[Dict[str, str]] = None,
+    ) -> None: ...
+    @property
+    def stage(self) -> str: ...
+    @property
+    def attributes(self) -> Dict[str, str]: ...
+    @property
+    def units(self) -> Dict[str, str]: ...  # name -> units ("1" = dimensionless)
+    @property
+    def dataset_attributes(self) -> Dict[str, Dict[str, str]]: ...
+    def get(self, name: str, default: Any = None) -> Any: ...
+    def __len__(self) -> int: ...
+    def keys(self) -> List[str]: ...
+    def values(self) -> List[np.ndarray]: ...
+    def items(self) -> List[Tuple[str, np.ndarray]]: ...
+    def to_dict(self) -> Dict[str, Tuple[np.ndarray, str, Dict[str, str]]]: ...
+
+class Night:
+    """One observing night; immutable, arrays are read-only views."""
+
+    @staticmethod
+    def from_arrays(
+        *,
+        time_epoch_utc: str,  # "YYYY-MM-DDThh:mm:ssZ"
+        antenna_names: Sequence[str],  # [A]
+        position_enu_m: ArrayLike,  # m, [A, 3] east, north, up
+        radiometer: Radiometer,
+        time_s: ArrayLike,  # s, [T], strictly increasing
+        brightness_k: ArrayLike,  # K, [A, T, C]
+        elevation_deg: ArrayLike,  # deg, [A, T]
+        azimuth_deg: ArrayLike,  # deg, [A, T]
+        valid: Optional[ArrayLike] = None,  # [A, T] bool or 0/1; default: all channels finite
+        radiometer_ids: Optional[Sequence[str]] = None,  # [A], default empty
+        reference_latitude_deg: float = 0.0,  # deg
+        reference_longitude_deg: float = 0.0,  # deg
+        reference_height_m: float = 0.0,  # m above the ellipsoid
+        scans: Optional[Sequence[ScanDict]] = None,
+        weather: Optional[WeatherDict] = None,
+        calibrator_phases: Optional[CalibratorPhasesDict] = None,
+        truth: Optional[TruthDict] = None,
+        results: Union[None, Dict[str, ResultGroup], Sequence[ResultGroup]] = None,
+    ) -> Night: ...  # raises WvrValueError naming the dataset path
+    def to_dict(self) -> Dict[str, Any]: ...  # from_arrays keyword arguments
+    def with_result_group(self, group: ResultGroup, *, replace: bool = False) -> Night: ...
+    @property
+    def time_epoch_utc(self) -> str: ...
+    @property
+    def antenna_count(self) -> int: ...
+    @property
+    def time_count(self) -> int: ...
+    @property
+    def channel_count(self) -> int: ...
+    @property
+    def antenna_names(self) -> List[str]: ...
+    @property
+    def radiometer_ids(self) -> List[str]: ...
+    @property
+    def position_enu_m(self) -> FloatArray: ...  # m, [A, 3]
+    @property
+    def reference_latitude_deg(self) -> float: ...  # deg
+    @property
+    def reference_longitude_deg(self) -> float: ...  # deg
+    @property
+    def reference_height_m(self) -> float: ...  # m
+    @property
+    def radiometer(self) -> Radiometer: ...
+    @property
+    def channel_names(self) -> List[str]: ...
+    @property
+    def time_s(self) -> FloatArray: ...  # s, [T]
+    @property
+    def brightness_k(self) -> FloatArray: ...  # K, [A, T, C]
+    @property
+    def valid(self) -> UInt8Array: ...  # [A, T], 1 = usable
+    @property
+    def elevation_deg(self) -> FloatArray: ...  # deg, [A, T]
+    @property
+    def azimuth_deg(self) -> FloatArray: ...  # deg, [A, T]
+    @property
+    def scans(self) -> List[ScanDict]: ...
+    @property
+    def weather(self) -> WeatherDict: ...
+    @property
+    def calibrator_phases(self) -> CalibratorPhasesDict: ...
+    @property
+    def truth(self) -> Optional[TruthDict]: ...
+    @property
+    def results(self) -> Dict[str, ResultGroup]: ...
+
+def read_night(path: PathLike) -> Night: ...
+def write_night(
+    night: Night, path: PathLike, *, overwrite: bool = False, compression_level: int = 4
+) -> None: ...
+@overload
+def add_result_group(
+    input_path: PathLike,
+    output_path: PathLike,
+    group: ResultGroup,
+    *,
+    overwrite: bool = False,
+    replace: bool = False,
+    compression_level: int = 4,
+) -> None: ...
+@overload
+def add_result_group(
+    input_path: PathLike,
+    output_path: PathLike,
+    stage: str,
+    datasets: Dict[str, DatasetSpec],
+    attributes: Optional[Dict[str, str]] = None,
+    *,
+    overwrite: bool = False,
+    replace: bool = False,
+    compression_level: int = 4,
+) -> None: ...
+
+class GapDict(TypedDict):
+    start_s: float  # s, last sample before the gap
+    stop_s: float  # s, first sample after it
+
+class NightSummaryDict(TypedDict):
+    time_epoch_utc: str
+    antenna_count: int
+    channel_count: int
+    channel_names: List[str]
+    time_count: int
+    start_s: float  # s
+    stop_s: float  # s
+    duration_s: float  # s
+    median_cadence_s: float  # s, 0 with fewer than 2 samples
+    gaps: List[GapDict]
+    valid_fraction: float
+    antenna_names: List[str]
+    antenna_valid_fraction: FloatArray  # [A]
+    calibrator_scan_count: int
+    target_scan_count: int
+    weather_count: int
+    calibrator_phase_count: int
+    has_truth: bool
+    result_stages: List[str]
+
+def summarize_night(night: Night) -> NightSummaryDict: ...
+def format_night_summary(night_or_summary: Union[Night, NightSummaryDict]) -> str: ...
+
+# --- scenarios and the simulator ------------------------------------------------------------
+
+class CloudDict(TypedDict):
+    start_s: float  # s
+    stop_s: float  # s
+    liquid_water_path_kg_m2: float  # kg/m^2
+    ramp_s: float  # s
+
+class FaultDict(TypedDict):
+    antenna: int
+    kind: str  # spike, gain_drift, stuck_channel, dead_channel, dropout
+    start_s: float  # s
+    stop_s: float  # s
+    channel: int  # -1 = every channel
+    magnitude: float
+
+class Scenario:
+    """A synthetic observing night read from a scenario TOML file; immutable."""
+
+    @property
+    def name(self) -> str: ...
+    @property
+    def seed(self) -> int: ...
+    @property
+    def start_utc(self) -> str: ...
+    @property
+    def duration_s(self) -> float: ...  # s
+    @property
+    def integration_s(self) -> float: ...  # s
+    @property
+    def time_count(self) -> int: ...
+    @property
+    def antenna_count(self) -> int: ...
+    @property
+    def layout(self) -> str: ...  # compact, extended, random or explicit
+    @property
+    def site(self) -> SiteConfig: ...
+    @property
+    def radiometer(self) -> Radiometer: ...
+    @property
+    def pwv_mm(self) -> float: ...  # mm
+    @property
+    def pwv_drift_mm_per_hour(self) -> float: ...  # mm/h
+    @property
+    def water_continuum_scale(self) -> float: ...
+    @property
+    def obs_freq_ghz(self) -> float: ...  # GHz
+    @property
+    def clouds(self) -> List[CloudDict]: ...
+    @property
+    def faults(self) -> List[FaultDict]: ...
+    def with_overrides(
+        self,
+        *,
+        seed: Optional[int] = None,
+        duration_s: Optional[float] = None,  # s
+        antenna_count: Optional[int] = None,  # drops faults of removed antennas
+    ) -> Scenario: ...
+
+def load_scenario(path: PathLike) -> Scenario: ...
+def parse_scenario(
+    toml_text: str, source_name: str = "<string>", base_directory: Optional[PathLike] = None
+) -> Scenario: ...
+def simulate_night(scenario: Scenario, *, threads: int = 0) -> Night: ...  # releases the GIL
+
+# --- retrieval ------------------------------------------------------------------------------
+
+class PriorDict(TypedDict):
+    mean: float
+    sigma: float  # > 0
+
+Prior = Union[None, Tuple[float, float], PriorDict]
+
+class RetrievalResult:
+    @property
+    def status(self) -> str: ...  # converged, no convergence, invalid input, out of domain, ...
+    @property
+    def ok(self) -> bool: ...
+    @property
+    def message(self) -> str: ...
+    @property
+    def pwv_mm(self) -> float: ...  # mm, zenith
+    @property
+    def pwv_sigma_mm(self) -> float: ...  # mm
+    @property
+    def liquid_kg_m2(self) -> float: ...  # kg/m^2
+    @property
+    def liquid_sigma_kg_m2(self) -> float: ...  # kg/m^2
+    @property
+    def temperature_offset_k(self) -> float: ...  # K
+    @property
+    def temperature_offset_sigma_k(self) -> float: ...  # K
+    @property
+    def gain(self) -> float: ...
+    @property
+    def channel_offsets_k(self) -> FloatArray: ...  # K, empty unless fitted
+    @property
+    def parameter_names(self) -> List[str]: ...
+    @property
+    def covariance(self) -> FloatArray: ...  # [p, p]
+    @property
+    def chi2(self) -> float: ...
+    @property
+    def dof(self) -> int: ...
+    @property
+    def chi2_per_dof(self) -> float: ...
+    @property
+    def iterations(self) -> int: ...
+    @property
+    def model_brightness_k(self) -> FloatArray: ...  # K, [C]
+    def brief_report(self) -> str: ...
+    def to_dict(self) -> Dict[str, Any]: ...
+
+class Retriever:
+    def __init__(
+        self,
+        fast_model: FastSkyModel,
+        *,
+        fit_liquid: bool = False,
+        fit_temperature_offset: bool = False,
+        calibration: str = "none",  # or "channel_offsets", "common_gain"
+        pwv_prior_mm: Prior = None,  # mm
+        liquid_prior_kg_m2: Prior = None,  # kg/m^2
+        temperature_offset_prior_k: Prior = None,  # K
+        channel_offset_prior_sigma_k: float = 1.0,  # K
+        gain_prior_sigma: float = 0.05,
+        temperature_offset_limit_k: float = 15.0,  # K
+        max_iterations: int = 50,
+    ) -> None: ...
+    def fit(
+        self,
+        brightness_k: ArrayLike,  # K, [C]
+        noise_k: ArrayLike,  # K, [C], > 0
+        elevation_deg: float,  # deg
+        initial_pwv_mm: float = -1.0,  # mm, < 0: coarse scan
+        temperature_offset_k: float = 0.0,  # K, known offset of the profile temperature
+    ) -> RetrievalResult: ...  # never raises for bad data
+    @property
+    def options(self) -> Dict[str, Any]: ...
+
+# PwvTable status codes and the retrieval flag bits reach Python through wvr.PwvTableStatus,
+# wvr.RetrievalFlag and wvr.RETRIEVAL_UNUSABLE, built by the package from private names of
+# this module.
+
+class PwvInversion(TypedDict):
+    status: int  # PwvTableStatus code; the floats are NaN unless OK
+    pwv_mm: float  # mm
+    pwv_sigma_mm: float  # mm
+    wet_path_per_pwv_m_per_mm: float  # m of slant wet path per mm of zenith PWV
+    chi2: float  # dof = C - 1
+    d_brightness_d_pwv_k_per_mm: FloatArray  # K/mm, [C]
+
+class PwvInversionSeries(TypedDict):
+    status: npt.NDArray[np.int8]  # [n]
+    pwv_mm: FloatArray  # mm, [n]
+    pwv_sigma_mm: FloatArray  # mm, [n]
+    wet_path_per_pwv_m_per_mm: FloatArray  # m/mm, [n]
+    chi2: FloatArray  # [n]
+    d_brightness_d_pwv_k_per_mm: FloatArray  # K/mm, [n, C]
+
+class PwvTable:
+    def __init__(
+        self,
+        site: SiteConfig,
+        radiometer: Radiometer,
+        *,
+        min_pwv_mm: float = 0.04,  # mm
+        max_pwv_mm: float = 11.0,  # mm
+        pwv_points: int = 96,
+        min_elevation_deg: float = 14.0,  # deg
+        airmass_points: int = 96,
+        min_surface_temperature_k: float = 255.0,  # K
+        max_surface_temperature_k: float = 285.0,  # K
+        temperature_step_k: float = 1.0,  # K
+        sky_model: Optional[SkyModel] = None,
+    ) -> None: ...
+    @property
+    def channel_count(self) -> int: ...
+    @property
+    def options(self) -> Dict[str, float]: ...
+    def invert(
+        self,
+        brightness_k: ArrayLike,  # K, [C]
+        noise_k: ArrayLike,  # K, [C]
+        elevation_deg: float,  # deg
+        surface_temperature_k: float,  # K
+    ) -> PwvInversion: ...
+    def invert_many(
+        self,
+        brightness_k: ArrayLike,  # K, [n, C]
+        noise_k: ArrayLike,  # K, [C] or [n, C]
+        elevation_deg: ArrayLike,  # deg, number or [n]
+        surface_temperature_k: ArrayLike,  # K, number or [n]
+    ) -> PwvInversionSeries: ...  # equals invert per sample; releases the GIL
+
+def describe_retrieval_flags(flags: int) -> str: ...
+
+class NightRetrievalSummary(TypedDict):
+    antennas: int
+    samples: int  # antennas x samples per antenna
+    samples_flagged: int
+    pwv_median_mm: float  # mm
+    pwv_p10_mm: float  # mm
+    pwv_p90_mm: float  # mm
+    chi2_per_dof_median: float
+    path_sensitivity_k_per_mm: FloatArray  # K/mm, [C]
+
+class NightRetrieval:
+    """Read-only arrays: [A, T] per sample, [A, W] and [A, W, C] per coefficient window."""
+
+    @property
+    def antennas(self) -> int: ...
+    @property
+    def samples(self) -> int: ...  # per antenna
+    @property
+    def channels(self) -> int: ...
+    @property
+    def windows(self) -> int: ...
+    @property
+    def seconds(self) -> float: ...  # s, wall time
+    @property
+    def pwv_mm(self) -> FloatArray: ...  # mm, [A, T]
+    @property
+    def pwv_sigma_mm(self) -> FloatArray: ...  # mm, [A, T]
+    @property
+    def chi2_per_dof(self) -> FloatArray: ...  # [A, T]
+    @property
+    def flags(self) -> UInt8Array: ...  # [A, T], RetrievalFlag bits
+    @property
+    def window_start_s(self) -> FloatArray: ...  # s, [W]
+    @property
+    def window_stop_s(self) -> FloatArray: ...  # s, [W]
+    @property
+    def window_pwv_mm(self) -> FloatArray: ...  # mm, [A, W]
+    @property
+    def window_pwv_sigma_mm(self) -> FloatArray: ...  # mm, [A, W]
+    @property
+    def window_chi2_per_dof(self) -> FloatArray: ...  # [A, W]
+    @property
+    def window_liquid_kg_m2(self) -> FloatArray: ...  # kg/m^2, [A, W]
+    @property
+    def window_flags(self) -> UInt8Array: ...  # [A, W]
+    @property
+    def path_sensitivity_k_per_mm(self) -> FloatArray: ...  # K/mm, [A, W, C]
+    @property
+    def combination_weight_mm_per_k(self) -> FloatArray: ...  # mm/K, [A, W, C]
+    @property
+    def path_noise_mm(self) -> FloatArray: ...  # mm, [A, W]
+    @property
+    def window_model_brightness_k(self) -> FloatArray: ...  # K, [A, W, C]
+    @property
+    def window_wet_path_mm(self) -> FloatArray: ...  # mm, [A, W]
+    @property
+    def window_elevation_deg(self) -> FloatArray: ...  # deg, [A, W]
+    def summary(self) -> NightRetrievalSummary: ...
+    def to_result_group(self, night: Night) -> ResultGroup: ...
+
+def retrieve_night(
+    night: Night,
+    site: SiteConfig,
+    *,
+    coefficient_window_s: float = 60.0,  # s
+    fit_liquid: bool = False,
+    fit_temperature_offset: bool = False,
+    threads: int = 0,  # 0 = all cores
+) -> NightRetrieval: ...  # releases the GIL

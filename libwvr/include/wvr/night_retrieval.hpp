@@ -63,6 +63,11 @@ struct NightRetrieval {
   // [antenna, window, channel]
   std::vector<double> path_sensitivity_k_per_mm, combination_weight_mm_per_k;
   std::vector<double> path_noise_mm;  // [antenna, window]: 1 / sqrt(sum s^2 / sigma^2)
+  // Reference state of each window for path estimation: the model brightness at the fitted
+  // state [antenna, window, channel] and the slant wet path there [antenna, window].
+  std::vector<double> window_model_brightness_k;
+  std::vector<double> window_wet_path_mm;
+  std::vector<double> window_elevation_deg;  // [antenna, window], mean of the used samples
   double seconds = 0.0;
 };
 

@@ -15,7 +15,8 @@
 //    built on a sky whose water continuum may be scaled (water_continuum_scale), plus Gaussian
 //    channel noise and the scenario's radiometer faults.
 // 5. Calibrator phases during calibrator scans: 2 pi nu / c times the baseline difference of
-//    true wet + dry slant path plus thermal noise, wrapped to (-pi, pi].
+//    true slant path (wet path times the dispersion factor of wvr/dispersion.hpp, plus dry)
+//    plus thermal noise, wrapped to (-pi, pi].
 // 6. Truth: slant wet path (including the mean column), slant dry-air fluctuation path (the
 //    hydrostatic mean, common to all antennas, is left out), line-of-sight PWV, and labelled
 //    episodes (clouds, faults, labelled turbulence).

@@ -1,0 +1,26 @@
+#pragma once
+// Dispersion of wet refractivity near water lines: the phase of a path at a submillimetre
+// observing frequency is larger (or smaller) than 2 pi nu L / c computed with the radio
+// (non-dispersive) refractivity, because of the real part of the water-vapour line shapes.
+//
+// The dispersive refractivity uses the same ITU-R P.676-13 Annex 1 water-line catalogue and
+// line widths as the absorption (wvr/absorption.hpp): N_disp(f) = N'(f) - N'(0), so it
+// vanishes at low frequency by construction.
+
+#include "wvr/absorption.hpp"
+#include "wvr/atmosphere.hpp"
+
+namespace wvr {
+
+// Dispersive part of the wet refractivity (N-units, i.e. 1e-6) at freq_ghz for one gas state.
+double dispersive_wet_refractivity(double freq_ghz, const GasState& state);
+
+// phase_per_path factor of a profile along the zenith: 1 + (integral of N_disp) / (integral of
+// the non-dispersive wet refractivity N_w), so that the wet phase is
+// (2 pi nu / c) * L_wet * factor.
+double wet_phase_per_path_factor(double freq_ghz, const AtmosphereProfile& profile);
+
+// Phase (rad) of a wet path at freq_ghz: 2 pi nu / c * path_m * factor.
+double wet_path_phase_rad(double path_m, double freq_ghz, double phase_per_path_factor);
+
+}  // namespace wvr

@@ -1,0 +1,230 @@
+// skyphase calibrate and skyphase correct: the scaling solve against calibrator phases and
+// the application of the phase corrections.
+#include <chrono>
+#include <iostream>
+#include <memory>
+#include <nlohmann/json.hpp>
+
+#include "commands.hpp"
+#include "output.hpp"
+#include "wvr/calibration.hpp"
+#include "wvr/correction.hpp"
+#include "wvr/dispersion.hpp"
+#include "wvr/error.hpp"
+#include "wvr/night_file.hpp"
+#include "wvr/night_retrieval.hpp"
+#include "wvr/site_config.hpp"
+
+namespace skyphase {
+namespace {
+
+struct CommonOptions {
+  std::string night_file;
+  std::string output_file;
+  std::string site_file;
+  double window_s = 60.0;
+  bool overwrite = false;
+  Format format = Format::kTable;
+};
+
+void add_common(CLI::App& cmd, CommonOptions& o) {
+  cmd.add_option("night", o.night_file, "Night file (HDF5)")->required()->check(CLI::ExistingFile);
+  cmd.add_option("-o,--output", o.output_file, "Night file to write with the results")->required();
+  cmd.add_option("--site", o.site_file, "Site file (TOML) describing the atmosphere's shape")
+      ->required()
+      ->check(CLI::ExistingFile);
+  cmd.add_option("--window-s", o.window_s,
+                 "Coefficient window (s) when the night has no retrieval yet")
+      ->capture_default_str();
+  cmd.add_flag("--overwrite", o.overwrite, "Replace an existing output file");
+  add_format_option(cmd, o.format);
+}
+
+// The night, its coefficient windows (from its retrieval results, or retrieved now) and the
+// dispersion factor of the site's atmosphere.
+struct Prepared {
+  wvr::Night night;
+  wvr::SiteConfig site;
+  wvr::CoefficientWindows coefficients;
+  std::vector<wvr::ResultGroup> new_groups;  // groups this command adds to the output
+  std::function<double(double)> phase_per_path;
+  wvr::AntennaPaths paths;
+};
+
+Prepared prepare(const CommonOptions& o) {
+  Prepared p;
+  p.night = wvr::read_night(o.night_file);
+  p.site = wvr::load_site_config(o.site_file);
+  if (const wvr::ResultGroup* stored = p.night.find_result("retrieval")) {
+    p.coefficients = wvr::CoefficientWindows::from_result_group(*stored);
+  } else {
+    wvr::NightRetrievalOptions options;
+    options.coefficient_window_s = o.window_s;
+    const wvr::NightRetrieval retrieval = wvr::retrieve_night(p.night, p.site.parameters, options);
+    p.coefficients = wvr::CoefficientWindows::from_retrieval(retrieval);
+    p.new_groups.push_back(wvr::to_result_group(retrieval, p.night));
+  }
+  // Dispersion of the site's wet refractivity (a ratio, independent of the vapour column).
+  wvr::SiteParameters site = p.site.parameters;
+  site.pwv_mm = 1.0;
+  site.surface_relative_humidity_pct.reset();
+  auto profile = std::make_shared<wvr::AtmosphereProfile>(wvr::make_parametric_profile(site));
+  p.phase_per_path = [profile](double freq_ghz) {
+    return wvr::wet_phase_per_path_factor(freq_ghz, *profile);
+  };
+  p.paths = wvr::compute_wvr_paths(p.night, p.coefficients);
+  return p;
+}
+
+double night_obs_freq_ghz(const wvr::Night& night) {
+  for (const wvr::Scan& s : night.scans) {
+    if (s.obs_freq_ghz > 0.0) return s.obs_freq_ghz;
+  }
+  return night.calibrator_phases.freq_ghz.empty() ? 230.0
+                                                  : night.calibrator_phases.freq_ghz.front();
+}
+
+void print_summary(const wvr::Night& night,
+                   const wvr::CorrectionMetrics& m,
+                   std::span<const double> antenna_scale,
+                   std::span<const double> antenna_scale_sigma,
+                   double scale,
+                   double scale_sigma,
+                   bool calibrated,
+                   const std::string& status,
+                   const std::string& output,
+                   Format format) {
+  if (format == Format::kJson) {
+    nlohmann::ordered_json j;
+    j["scale"] = scale;
+    j["scale_sigma"] = scale_sigma;
+    j["calibrated"] = calibrated;
+    j["status"] = status;
+    j["phase_rms_before_deg"] = m.phase_rms_before_deg;
+    j["phase_rms_after_deg"] = m.phase_rms_after_deg;
+    j["improvement_factor"] = m.improvement_factor;
+    j["coherence_before"] = m.coherence_before;
+    j["coherence_after"] = m.coherence_after;
+    j["baselines"] = m.baselines.size();
+    nlohmann::ordered_json antennas = nlohmann::ordered_json::array();
+    for (std::size_t a = 0; a < night.antenna_count(); ++a) {
+      const wvr::AntennaMetrics& am = m.antennas[a];
+      antennas.push_back({{"antenna", night.array.antenna_names[a]},
+                          {"scale", antenna_scale[a]},
+                          {"scale_sigma", antenna_scale_sigma[a]},
+                          {"phase_rms_before_deg", am.rms_before_deg},
+                          {"phase_rms_after_deg", am.rms_after_deg},
+                          {"improvement_factor", am.improvement_factor},
+                          {"coherence_before", am.coherence_before},
+                          {"coherence_after", am.coherence_after}});
+    }
+    j["antennas"] = antennas;
+    j["output"] = output;
+    std::cout << j.dump(2) << "\n";
+    return;
+  }
+  std::cout << "scale " << fixed(scale, 4) << " +/- " << fixed(scale_sigma, 4)
+            << (calibrated ? "" : " (not calibrated: run skyphase calibrate first)") << " ["
+            << status << "]\n"
+            << "calibrator phase rms (median over " << m.baselines.size()
+            << " baselines): " << fixed(m.phase_rms_before_deg, 2) << " deg before, "
+            << fixed(m.phase_rms_after_deg, 2) << " deg after, improvement x"
+            << fixed(m.improvement_factor, 2) << "\n"
+            << "coherence: " << fixed(m.coherence_before, 3) << " before, "
+            << fixed(m.coherence_after, 3) << " after\n"
+            << "-> " << output << "\n";
+}
+
+struct CalibrateOptions {
+  CommonOptions common;
+  bool per_antenna = false;
+  double segment_s = 0.0;
+  int reference_antenna = 0;
+};
+
+void run_calibrate(const CalibrateOptions& o) {
+  Prepared p = prepare(o.common);
+  wvr::CalibrationOptions options;
+  options.per_antenna_scale = o.per_antenna;
+  options.segment_s = o.segment_s;
+  options.reference_antenna = o.reference_antenna;
+  const wvr::CalibrationResult c = wvr::solve_scaling(p.night, p.paths, p.phase_per_path, options);
+  const wvr::CorrectionMetrics m =
+      wvr::evaluate_correction(p.night, p.paths, c.antenna_scale, p.phase_per_path);
+  p.new_groups.push_back(wvr::calibration_result_group(c));
+  wvr::NightWriteOptions write;
+  write.overwrite_output = o.common.overwrite;
+  write.replace_existing_results = true;
+  wvr::add_result_groups(o.common.night_file, o.common.output_file, p.new_groups, write);
+  print_summary(p.night, m, c.antenna_scale, c.antenna_scale_sigma, c.scale, c.scale_sigma, c.ok(),
+                c.brief_report(), o.common.output_file, o.common.format);
+}
+
+struct CorrectOptions {
+  CommonOptions common;
+  double obs_freq_ghz = 0.0;
+};
+
+void run_correct(const CorrectOptions& o) {
+  Prepared p = prepare(o.common);
+  const std::size_t na = p.night.antenna_count();
+  std::vector<double> scale(na, 1.0), sigma(na, 0.0);
+  double array_scale = 1.0, array_sigma = 0.0;
+  bool calibrated = false;
+  if (const wvr::ResultGroup* cal = p.night.find_result("calibration")) {
+    const auto* s = cal->find("antenna_scale");
+    const auto* ss = cal->find("antenna_scale_sigma");
+    const auto* a = cal->find("scale");
+    const auto* as = cal->find("scale_sigma");
+    if (s == nullptr || ss == nullptr || a == nullptr || as == nullptr ||
+        s->element_count() != na) {
+      throw wvr::InvalidInput(o.common.night_file + ": /results/calibration is incomplete");
+    }
+    scale = std::get<std::vector<double>>(s->values);
+    sigma = std::get<std::vector<double>>(ss->values);
+    array_scale = std::get<std::vector<double>>(a->values).at(0);
+    array_sigma = std::get<std::vector<double>>(as->values).at(0);
+    calibrated = true;
+  }
+  const double freq = o.obs_freq_ghz > 0.0 ? o.obs_freq_ghz : night_obs_freq_ghz(p.night);
+  const wvr::PhaseCorrections corrections =
+      wvr::compute_phase_corrections(p.night, p.coefficients, scale, freq, p.phase_per_path(freq));
+  const wvr::CorrectionMetrics m =
+      wvr::evaluate_correction(p.night, p.paths, scale, p.phase_per_path);
+  p.new_groups.push_back(wvr::correction_result_group(corrections, m));
+  wvr::NightWriteOptions write;
+  write.overwrite_output = o.common.overwrite;
+  write.replace_existing_results = true;
+  wvr::add_result_groups(o.common.night_file, o.common.output_file, p.new_groups, write);
+  print_summary(p.night, m, scale, sigma, array_scale, array_sigma, calibrated,
+                calibrated ? "calibration applied" : "scale 1 assumed", o.common.output_file,
+                o.common.format);
+}
+
+}  // namespace
+
+void add_calibrate_command(CLI::App& app) {
+  auto options = std::make_shared<CalibrateOptions>();
+  CLI::App* cmd = app.add_subcommand(
+      "calibrate", "Solve the radiometer phase scaling against calibrator phases");
+  add_common(*cmd, options->common);
+  cmd->add_flag("--per-antenna", options->per_antenna,
+                "Also fit one scale per antenna (prior around the array scale)");
+  cmd->add_option("--segment-s", options->segment_s,
+                  "Fit one array scale per time segment of this length (s)");
+  cmd->add_option("--reference-antenna", options->reference_antenna, "Reference antenna index")
+      ->capture_default_str();
+  cmd->callback([options] { run_calibrate(*options); });
+}
+
+void add_correct_command(CLI::App& app) {
+  auto options = std::make_shared<CorrectOptions>();
+  CLI::App* cmd = app.add_subcommand(
+      "correct", "Apply the phase corrections and report before/after statistics");
+  add_common(*cmd, options->common);
+  cmd->add_option("--obs-freq-ghz", options->obs_freq_ghz,
+                  "Observing frequency of the correction table (default: the night's)");
+  cmd->callback([options] { run_correct(*options); });
+}
+
+}  // namespace skyphase
