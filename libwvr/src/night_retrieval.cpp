@@ -6,6 +6,8 @@
 #include <map>
 #include <memory>
 #include <thread>
+#include <type_traits>
+#include <variant>
 
 #include "wvr/error.hpp"
 #include "wvr/fast_sky_model.hpp"
@@ -294,6 +296,50 @@ ResultGroup to_result_group(const NightRetrieval& r, const Night& night) {
   add("window_elevation_deg", {a, w}, r.window_elevation_deg, "deg");
   (void)night;
   return g;
+}
+
+NightRetrieval retrieval_from_result_group(const ResultGroup& g) {
+  const ResultDataset* pwv = g.find("pwv_mm");
+  const ResultDataset* weights = g.find("combination_weight_mm_per_k");
+  if (pwv == nullptr || pwv->shape.size() != 2 || weights == nullptr ||
+      weights->shape.size() != 3) {
+    throw InvalidInput(
+        "/results/" + g.stage +
+        " is not a retrieval (pwv_mm [A, T] and combination_weight_mm_per_k [A, W, C] needed)");
+  }
+  NightRetrieval r;
+  r.antennas = pwv->shape[0];
+  r.samples = pwv->shape[1];
+  r.windows = weights->shape[1];
+  r.channels = weights->shape[2];
+  auto take = [&](const char* name, std::vector<std::size_t> shape, auto& out) {
+    const ResultDataset* d = g.find(name);
+    using Vector = std::decay_t<decltype(out)>;
+    if (d == nullptr || d->shape != shape || !std::holds_alternative<Vector>(d->values)) {
+      throw InvalidInput("/results/" + g.stage + "/" + name +
+                         " is missing or has an unexpected shape or type");
+    }
+    out = std::get<Vector>(d->values);
+  };
+  const std::size_t a = r.antennas, t = r.samples, w = r.windows, c = r.channels;
+  take("pwv_mm", {a, t}, r.pwv_mm);
+  take("pwv_sigma_mm", {a, t}, r.pwv_sigma_mm);
+  take("chi2_per_dof", {a, t}, r.chi2_per_dof);
+  take("flags", {a, t}, r.flags);
+  take("window_start_s", {w}, r.window_start_s);
+  take("window_stop_s", {w}, r.window_stop_s);
+  take("window_pwv_mm", {a, w}, r.window_pwv_mm);
+  take("window_pwv_sigma_mm", {a, w}, r.window_pwv_sigma_mm);
+  take("window_chi2_per_dof", {a, w}, r.window_chi2_per_dof);
+  take("window_liquid_kg_m2", {a, w}, r.window_liquid_kg_m2);
+  take("window_flags", {a, w}, r.window_flags);
+  take("path_sensitivity_k_per_mm", {a, w, c}, r.path_sensitivity_k_per_mm);
+  take("combination_weight_mm_per_k", {a, w, c}, r.combination_weight_mm_per_k);
+  take("path_noise_mm", {a, w}, r.path_noise_mm);
+  take("window_model_brightness_k", {a, w, c}, r.window_model_brightness_k);
+  take("window_wet_path_mm", {a, w}, r.window_wet_path_mm);
+  take("window_elevation_deg", {a, w}, r.window_elevation_deg);
+  return r;
 }
 
 NightRetrievalSummary summarize(const NightRetrieval& r) {

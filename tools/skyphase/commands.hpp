@@ -13,5 +13,6 @@ void add_inspect_command(CLI::App& app);
 void add_retrieve_command(CLI::App& app);
 void add_calibrate_command(CLI::App& app);
 void add_correct_command(CLI::App& app);
+void add_diagnose_command(CLI::App& app);
 
 }  // namespace skyphase

@@ -7,6 +7,7 @@
 
 #include "commands.hpp"
 #include "output.hpp"
+#include "pipeline.hpp"
 #include "wvr/calibration.hpp"
 #include "wvr/correction.hpp"
 #include "wvr/dispersion.hpp"
@@ -17,72 +18,6 @@
 
 namespace skyphase {
 namespace {
-
-struct CommonOptions {
-  std::string night_file;
-  std::string output_file;
-  std::string site_file;
-  double window_s = 60.0;
-  bool overwrite = false;
-  Format format = Format::kTable;
-};
-
-void add_common(CLI::App& cmd, CommonOptions& o) {
-  cmd.add_option("night", o.night_file, "Night file (HDF5)")->required()->check(CLI::ExistingFile);
-  cmd.add_option("-o,--output", o.output_file, "Night file to write with the results")->required();
-  cmd.add_option("--site", o.site_file, "Site file (TOML) describing the atmosphere's shape")
-      ->required()
-      ->check(CLI::ExistingFile);
-  cmd.add_option("--window-s", o.window_s,
-                 "Coefficient window (s) when the night has no retrieval yet")
-      ->capture_default_str();
-  cmd.add_flag("--overwrite", o.overwrite, "Replace an existing output file");
-  add_format_option(cmd, o.format);
-}
-
-// The night, its coefficient windows (from its retrieval results, or retrieved now) and the
-// dispersion factor of the site's atmosphere.
-struct Prepared {
-  wvr::Night night;
-  wvr::SiteConfig site;
-  wvr::CoefficientWindows coefficients;
-  std::vector<wvr::ResultGroup> new_groups;  // groups this command adds to the output
-  std::function<double(double)> phase_per_path;
-  wvr::AntennaPaths paths;
-};
-
-Prepared prepare(const CommonOptions& o) {
-  Prepared p;
-  p.night = wvr::read_night(o.night_file);
-  p.site = wvr::load_site_config(o.site_file);
-  if (const wvr::ResultGroup* stored = p.night.find_result("retrieval")) {
-    p.coefficients = wvr::CoefficientWindows::from_result_group(*stored);
-  } else {
-    wvr::NightRetrievalOptions options;
-    options.coefficient_window_s = o.window_s;
-    const wvr::NightRetrieval retrieval = wvr::retrieve_night(p.night, p.site.parameters, options);
-    p.coefficients = wvr::CoefficientWindows::from_retrieval(retrieval);
-    p.new_groups.push_back(wvr::to_result_group(retrieval, p.night));
-  }
-  // Dispersion of the site's wet refractivity (a ratio, independent of the vapour column).
-  wvr::SiteParameters site = p.site.parameters;
-  site.pwv_mm = 1.0;
-  site.surface_relative_humidity_pct.reset();
-  auto profile = std::make_shared<wvr::AtmosphereProfile>(wvr::make_parametric_profile(site));
-  p.phase_per_path = [profile](double freq_ghz) {
-    return wvr::wet_phase_per_path_factor(freq_ghz, *profile);
-  };
-  p.paths = wvr::compute_wvr_paths(p.night, p.coefficients);
-  return p;
-}
-
-double night_obs_freq_ghz(const wvr::Night& night) {
-  for (const wvr::Scan& s : night.scans) {
-    if (s.obs_freq_ghz > 0.0) return s.obs_freq_ghz;
-  }
-  return night.calibrator_phases.freq_ghz.empty() ? 230.0
-                                                  : night.calibrator_phases.freq_ghz.front();
-}
 
 void print_summary(const wvr::Night& night,
                    const wvr::CorrectionMetrics& m,
@@ -168,24 +103,13 @@ struct CorrectOptions {
 void run_correct(const CorrectOptions& o) {
   Prepared p = prepare(o.common);
   const std::size_t na = p.night.antenna_count();
-  std::vector<double> scale(na, 1.0), sigma(na, 0.0);
-  double array_scale = 1.0, array_sigma = 0.0;
-  bool calibrated = false;
-  if (const wvr::ResultGroup* cal = p.night.find_result("calibration")) {
-    const auto* s = cal->find("antenna_scale");
-    const auto* ss = cal->find("antenna_scale_sigma");
-    const auto* a = cal->find("scale");
-    const auto* as = cal->find("scale_sigma");
-    if (s == nullptr || ss == nullptr || a == nullptr || as == nullptr ||
-        s->element_count() != na) {
-      throw wvr::InvalidInput(o.common.night_file + ": /results/calibration is incomplete");
-    }
-    scale = std::get<std::vector<double>>(s->values);
-    sigma = std::get<std::vector<double>>(ss->values);
-    array_scale = std::get<std::vector<double>>(a->values).at(0);
-    array_sigma = std::get<std::vector<double>>(as->values).at(0);
-    calibrated = true;
-  }
+  const StoredCalibration stored = stored_calibration(p.night, o.common.night_file);
+  const bool calibrated = stored.present;
+  const std::vector<double> scale =
+      calibrated ? stored.antenna_scale : std::vector<double>(na, 1.0);
+  const std::vector<double> sigma =
+      calibrated ? stored.antenna_scale_sigma : std::vector<double>(na, 0.0);
+  const double array_scale = stored.scale, array_sigma = stored.scale_sigma;
   const double freq = o.obs_freq_ghz > 0.0 ? o.obs_freq_ghz : night_obs_freq_ghz(p.night);
   const wvr::PhaseCorrections corrections =
       wvr::compute_phase_corrections(p.night, p.coefficients, scale, freq, p.phase_per_path(freq));

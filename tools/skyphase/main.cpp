@@ -21,6 +21,7 @@ int main(int argc, char** argv) {
   skyphase::add_retrieve_command(app);
   skyphase::add_calibrate_command(app);
   skyphase::add_correct_command(app);
+  skyphase::add_diagnose_command(app);
   try {
     app.parse(argc, argv);
   } catch (const CLI::CallForHelp& e) {

@@ -79,6 +79,10 @@ NightRetrieval retrieve_night(const Night& night,
 // The "retrieval" result group of the night file (datasets described in libwvr/FORMAT.md).
 ResultGroup to_result_group(const NightRetrieval& retrieval, const Night& night);
 
+// The retrieval read back from a night file's "retrieval" result group; throws InvalidInput
+// naming a missing or mis-shaped dataset.
+NightRetrieval retrieval_from_result_group(const ResultGroup& group);
+
 // Numbers for a one-screen summary.
 struct NightRetrievalSummary {
   std::size_t antennas = 0, samples = 0, samples_flagged = 0;

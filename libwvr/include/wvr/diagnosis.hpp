@@ -1,0 +1,111 @@
+#pragma once
+// Night diagnosis: where did phase correction work, where not, and why.
+//
+// Windows are the night's scans. In each calibrator scan the calibrator phases and the
+// radiometer paths give, per baseline: the phase scatter before and after correction about
+// the scan's circular mean, the white-noise floor (from successive differences of the
+// corrected phase: thermal noise plus radiometer noise), the correlation and the regression
+// slope between observed and radiometer-predicted phase changes, and the radiometer path rms;
+// per antenna the retrieval chi-square, unusable samples, stuck channels and spikes. Target
+// scans have no phases: radiometer-only evidence (clouds, antenna faults) is judged directly
+// and the phase-based verdict is inherited from the neighbouring calibrator scans.
+//
+// Verdicts (our vocabulary), first match wins for the array:
+//   cannot judge      no calibrator phases or no usable radiometer in the window;
+//   cloud             most antennas' retrieval chi2/dof above cloud_chi2_per_dof;
+//   quiet sky         phase scatter before correction within quiet_floor_ratio x floor;
+//   scale off         correlation above scale_min_correlation, the observed/predicted slope
+//                     outside 1 +/- scale_tolerance, and the prediction rescaled by that
+//                     slope leaves no more than dry_floor_ratio x the floor;
+//   dry turbulence    residual after correction above dry_floor_ratio x floor;
+//   radiometer fault  (array is otherwise fine) one or more antennas flagged below;
+//   corrected         otherwise.
+// Antenna faults: unusable retrieval samples above fault_unusable_fraction, a channel whose
+// brightness varies less than stuck_noise_fraction x its noise, spikes (samples with chi2/dof
+// above spike_chi2_per_dof in more than spike_fraction of samples), chi2/dof above
+// fault_chi2_ratio x the array median (and above cloud_chi2_per_dof / 2), or a residual after
+// correction above fault_residual_ratio x the array median; a window between two windows that
+// flag an antenna for the same reason flags it too (intermittent faults). Faulty antennas are
+// left out of the array statistics.
+
+#include <cstdint>
+#include <string>
+#include <vector>
+
+#include "wvr/correction.hpp"
+#include "wvr/night.hpp"
+#include "wvr/night_retrieval.hpp"
+
+namespace wvr {
+
+enum class Verdict : std::uint8_t {
+  kCorrected = 0,
+  kQuietSky,
+  kDryTurbulence,
+  kCloud,
+  kRadiometerFault,
+  kScaleOff,
+  kCannotJudge,
+};
+std::string to_string(Verdict verdict);
+
+// Reasons an antenna is flagged in a window (bits).
+enum AntennaFault : std::uint8_t {
+  kFaultNoData = 1,  // too many unusable retrieval samples (dead channel, dropouts)
+  kFaultStuckChannel = 2,
+  kFaultSpikes = 4,
+  kFaultInconsistent = 8,    // retrieval chi2 far above the array's (gain jump, drifting channel)
+  kFaultWorseResidual = 16,  // phase residual far above the array's
+};
+std::string describe_antenna_faults(std::uint8_t faults);
+
+struct DiagnosisThresholds {
+  double cloud_chi2_per_dof = 6.0;
+  double cloud_antenna_fraction = 0.6;
+  double quiet_floor_ratio = 1.5;
+  double dry_floor_ratio = 2.0;
+  double scale_min_correlation = 0.9;
+  double scale_tolerance = 0.15;
+  double fault_unusable_fraction = 0.2;
+  double stuck_noise_fraction = 0.2;
+  double spike_chi2_per_dof = 30.0;
+  double spike_fraction = 0.005;
+  double fault_chi2_ratio = 4.0;
+  double fault_residual_ratio = 3.0;
+
+  void validate() const;  // throws InvalidInput
+};
+
+struct WindowDiagnosis {
+  double start_s = 0.0, stop_s = 0.0;
+  bool calibrator = false;
+  bool inherited = false;  // phase-based verdict taken from neighbouring calibrator scans
+  Verdict verdict = Verdict::kCannotJudge;
+  std::string reason;                        // one line with the numbers behind the verdict
+  std::vector<std::uint8_t> antenna_faults;  // [antenna]
+  // Array statistics (medians over healthy baselines; NaN when not measured).
+  double rms_before_deg = 0.0, rms_after_deg = 0.0, floor_deg = 0.0;
+  double improvement_factor = 0.0, correlation = 0.0, slope = 0.0;
+  double radiometer_path_rms_um = 0.0, chi2_per_dof = 0.0;
+};
+
+struct NightDiagnosis {
+  std::vector<std::string> antenna_names;
+  std::vector<WindowDiagnosis> windows;
+  DiagnosisThresholds thresholds;
+  std::vector<std::string> notes;  // what could not be judged and why
+};
+
+// `retrieval` and `paths` cover the night; `metrics.corrected_phase_rad` holds the corrected
+// calibrator phases (evaluate_correction, with the calibration's scales). Never throws for
+// missing data (windows say "cannot judge"); throws InvalidInput for mismatched shapes.
+NightDiagnosis diagnose_night(const Night& night,
+                              const NightRetrieval& retrieval,
+                              const AntennaPaths& paths,
+                              const CorrectionMetrics& metrics,
+                              const std::function<double(double)>& phase_per_path,
+                              const DiagnosisThresholds& thresholds = {});
+
+ResultGroup diagnosis_result_group(const NightDiagnosis& diagnosis);
+
+}  // namespace wvr

@@ -1,0 +1,231 @@
+#pragma once
+// Structure functions and wind of a night's phase screen, for night diagnosis.
+//
+// 1. Spatial structure function per baseline, D(d) in m^2 of path:
+//    * from the calibrator phases (observed or corrected): the variance of the baseline phase
+//      about each calibrator scan's circular mean (wrap-aware deviations), pooled over the
+//      scans and converted to path with lambda / 2 pi (so nights at different frequencies
+//      compare; the path is the effective one at the observing frequency, dispersion
+//      included). The per-scan offsets of calibration are unknown, so only fluctuations within
+//      a scan are seen: the estimate is capped near D(|v| * scan length) and is a temporal
+//      quantity mapped onto baselines, not the full spatial D of long baselines.
+//    * from the radiometer paths (AntennaPaths): the variance of L_b - L_a about its mean over
+//      long windows (default: the whole night). Var(L_b - L_a) = 2 sigma^2 - 2 B(d) = D(d), so
+//      with windows long compared to d / |v| this is the full spatial structure function up
+//      to the outer scale; the per-antenna constants of the retrieval drop out with the mean.
+//    Baseline length d is the horizontal (east, north) distance between the antennas, NOT the
+//    projection onto the sky plane: all lines of sight are parallel, so two antennas cross a
+//    horizontal layer at points whose separation is their ground separation (the pierce-point
+//    offset h / tan(el) toward the azimuth is common to all antennas). The slant geometry
+//    scales D by the airmass factor but leaves the shape (slopes, break) alone.
+// 2. A broken power law fitted to D(d) in log-log with Ceres:
+//      ln D = ln A + alpha_short x + (alpha_long - alpha_short) w ln(1 + e^(x / w)),
+//      x = ln(d / d_break),
+//    i.e. two power laws whose asymptotes meet at d_break (value A there), joined smoothly
+//    over a width w in ln d; optionally saturating, D_sat (1 - exp(-D / D_sat)).
+//    For the slab (von Karman) spectrum of wvr/phase_screen.hpp the asymptotes are
+//    D ~ W d^(5/3) and D ~ W^2 d^(2/3); they meet at d = 0.343 W (closed form in
+//    slab_break_over_thickness()). The slab's transition is broad and asymmetric (the thick
+//    regime is approached only linearly in d / W), so a fit with a free transition width puts
+//    the break further out, at about 0.58 W (measured on the LayerSpectrum curve over
+//    W/100 .. 30 W, the same for W = 100 m .. 1 km).
+// 3. Temporal structure function per antenna or per baseline path series vs lag (through
+//    wvr::temporal_structure_function).
+// 4. Wind under frozen flow: the lag tau_ab maximising the cross-correlation of two
+//    antennas' high-passed path series satisfies tau_ab = b_ab . u with u = v / |v|^2 (the
+//    screen at antenna b repeats antenna a's after the time the flow takes to carry it along
+//    the baseline). A weighted least-squares fit of u over many pairs gives the velocity of the
+//    screen relative to the pierce points (their slow drift with the source is not removed).
+//
+// Usage:
+//   wvr::SpatialStructureResult sf = wvr::radiometer_structure_function(night, paths);
+//   wvr::StructureFunctionEstimate binned = wvr::bin_structure_function(sf);
+//   wvr::BrokenPowerLawFit fit = wvr::fit_broken_power_law(binned.separation, binned.value_m2);
+//   wvr::WindEstimate wind = wvr::estimate_wind(night, paths);
+
+#include <array>
+#include <span>
+#include <string>
+#include <vector>
+
+#include "wvr/calibration.hpp"
+#include "wvr/night.hpp"
+#include "wvr/phase_screen.hpp"
+
+namespace wvr {
+
+// How a diagnostic computation ended.
+enum class DiagnosticStatus {
+  kOk,
+  kNoData,        // nothing usable: no scans, one antenna, all samples non-finite
+  kTooFewPoints,  // fit only: too few points for the full model (a reduced model was fitted)
+  kNoConvergence,
+  kSolverFailure,
+};
+const char* to_string(DiagnosticStatus status);
+
+// ---- Spatial structure function ----
+
+struct SpatialStructureOptions {
+  // Radiometer paths: length of the windows over which the baseline path mean is removed (s);
+  // 0 = one window for the whole night.
+  double window_s = 0.0;
+  // Minimum samples of a scan or window for it to count (its mean would be too noisy below).
+  std::size_t min_samples = 10;
+
+  void validate() const;  // throws InvalidInput
+};
+
+// D(d) of one baseline.
+struct BaselineStructure {
+  int antenna_a = 0, antenna_b = 0;
+  double baseline_m = 0.0;    // horizontal antenna separation (m)
+  double structure_m2 = 0.0;  // pooled variance of the baseline path (m^2)
+  std::size_t samples = 0;    // samples pooled
+  std::size_t segments = 0;   // scans or windows pooled
+};
+
+struct SpatialStructureResult {
+  DiagnosticStatus status = DiagnosticStatus::kNoData;
+  std::string message;
+  std::vector<BaselineStructure> baselines;  // sorted by baseline_m
+  std::size_t samples_skipped = 0;           // non-finite or unknown-antenna samples
+
+  bool ok() const { return status == DiagnosticStatus::kOk; }
+  std::string brief_report() const;
+};
+
+// From calibrator rows: `phase_rad` has one value per row of night.calibrator_phases
+// (night.calibrator_phases.phase_rad, or CorrectionMetrics::corrected_phase_rad). The
+// variance within each scan uses the unbiased divisor (samples - 1 per scan). Rows outside
+// calibrator scans, with unknown antennas or non-finite values are skipped. Throws
+// InvalidInput for bad options or a phase_rad of the wrong length.
+SpatialStructureResult calibrator_structure_function(const Night& night,
+                                                     std::span<const double> phase_rad,
+                                                     const SpatialStructureOptions& options = {});
+
+// From radiometer paths over every antenna pair. Throws InvalidInput for bad options or paths
+// whose shape does not match the night's antennas.
+SpatialStructureResult radiometer_structure_function(const Night& night,
+                                                     const AntennaPaths& paths,
+                                                     const SpatialStructureOptions& options = {});
+
+// Baselines averaged in logarithmic bins (bins_per_decade > 0): separation is the geometric
+// mean baseline of a bin, value_m2 the mean D, pair_count the number of baselines. Empty bins
+// are left out.
+StructureFunctionEstimate bin_structure_function(const SpatialStructureResult& result,
+                                                 double bins_per_decade = 5.0);
+
+// ---- Broken power-law fit ----
+
+struct BrokenPowerLawOptions {
+  bool fit_saturation = false;       // add D_sat (needs points past the outer scale)
+  double transition_width = 0.5;     // w in ln d (> 0); fitted too when fit_transition_width
+  bool fit_transition_width = true;  // needs >= 7 points, otherwise kept fixed
+  int max_iterations = 200;
+
+  void validate() const;  // throws InvalidInput
+};
+
+struct BrokenPowerLawFit {
+  DiagnosticStatus status = DiagnosticStatus::kNoData;
+  std::string message;
+  double amplitude_m2 = 0.0;  // A: the asymptotes' value at the break
+  double alpha_short = 0.0, alpha_long = 0.0;
+  double break_m = 0.0;
+  double saturation_m2 = 0.0;  // 0 when not fitted
+  double transition_width = 0.0;
+  // 1-sigma uncertainties from the Ceres covariance scaled by the residual variance
+  // (0 when the fit has no spare degrees of freedom).
+  double amplitude_sigma_m2 = 0.0, alpha_short_sigma = 0.0, alpha_long_sigma = 0.0;
+  double break_sigma_m = 0.0, saturation_sigma_m2 = 0.0;
+  std::size_t points_used = 0;
+  double rms_log_residual = 0.0;  // rms of ln D - model
+
+  bool ok() const { return status == DiagnosticStatus::kOk; }
+  // Model value D(d) in m^2.
+  double evaluate_m2(double separation_m) const;
+  std::string brief_report() const;
+};
+
+// Fits D(separation) (points with non-finite or non-positive values are skipped). With fewer
+// points than the broken model needs (5, 6 with saturation) but at least 2, a single power
+// law is fitted (alpha_short = alpha_long, break at the geometric mean separation) and the
+// status is kTooFewPoints. Throws InvalidInput for bad options or mismatched sizes.
+BrokenPowerLawFit fit_broken_power_law(std::span<const double> separation_m,
+                                       std::span<const double> structure_m2,
+                                       const BrokenPowerLawOptions& options = {});
+
+// d_break / W where the thick (d^5/3) and thin (d^2/3) asymptotes of the slab spectrum meet:
+// B I(8/3) / (2 pi I(11/3)) with B = sqrt(pi) Gamma(4/3) / Gamma(11/6) (the k_z integral of
+// the -11/6 power) and I(beta) = integral x^(1-beta) (1 - J0(x)) dx
+// = -2^(1-beta) Gamma(1 - beta/2) / Gamma(beta/2) (Gradshteyn & Ryzhik 6.561 type Mellin
+// transform of J0, from memory); about 0.343.
+double slab_break_over_thickness();
+
+// ---- Temporal structure function ----
+
+struct TemporalStructureResult {
+  DiagnosticStatus status = DiagnosticStatus::kNoData;
+  std::string message;
+  double sample_interval_s = 0.0;  // median cadence of the path series
+  // One entry per series: antenna_b = -1 for an antenna's own path, otherwise L_b - L_a.
+  std::vector<std::array<int, 2>> series;
+  std::vector<StructureFunctionEstimate> estimates;  // separation in s, value in m^2 of path
+
+  bool ok() const { return status == DiagnosticStatus::kOk; }
+  std::string brief_report() const;
+};
+
+// D(tau) of each antenna's path series (pairs empty) or of each listed baseline's path
+// difference. The series is placed on a regular grid at the median cadence (missing times
+// become NaN) and handed to temporal_structure_function. Lags that do not fit the series are
+// an InvalidInput, as are antenna indices outside the paths.
+TemporalStructureResult temporal_path_structure(const AntennaPaths& paths,
+                                                std::span<const double> lag_s,
+                                                std::span<const std::array<int, 2>> pairs = {});
+
+// ---- Wind ----
+
+struct WindOptions {
+  // Each series is high-passed by subtracting its running mean over this window (s), which
+  // removes slow drifts (elevation, mean PWV) that would flatten the correlation peaks.
+  double highpass_window_s = 120.0;
+  double min_speed_m_s = 1.0;     // lag search up to |b| / min_speed_m_s ...
+  double max_lag_s = 600.0;       // ... and never beyond this
+  double min_correlation = 0.5;   // pairs whose peak correlation is lower are not used
+  double min_baseline_m = 0.0;    // shorter pairs are not used
+  double max_baseline_m = 1e300;  // longer pairs are not used
+
+  void validate() const;  // throws InvalidInput
+};
+
+struct PairLag {
+  int antenna_a = 0, antenna_b = 0;
+  double baseline_east_m = 0.0, baseline_north_m = 0.0;  // position b - position a
+  double lag_s = 0.0;                                    // L_b(t + lag) best matches L_a(t)
+  double peak_correlation = 0.0;
+  bool used = false;
+};
+
+struct WindEstimate {
+  DiagnosticStatus status = DiagnosticStatus::kNoData;
+  std::string message;
+  double east_m_s = 0.0, north_m_s = 0.0;  // screen velocity (m/s)
+  double speed_m_s = 0.0, speed_sigma_m_s = 0.0;
+  // Direction the screen moves TOWARDS, degrees from north through east in [0, 360).
+  double direction_to_deg = 0.0, direction_sigma_deg = 0.0;
+  std::size_t pairs_used = 0;
+  std::vector<PairLag> pairs;  // every pair examined
+
+  bool ok() const { return status == DiagnosticStatus::kOk; }
+  std::string brief_report() const;
+};
+
+// Frozen-flow velocity from the radiometer paths of every antenna pair. Throws InvalidInput
+// for bad options or paths whose shape does not match the night's antennas.
+WindEstimate estimate_wind(const Night& night,
+                           const AntennaPaths& paths,
+                           const WindOptions& options = {});
+
+}  // namespace wvr

@@ -1,0 +1,262 @@
+// Spatial structure functions of a night: calibrator phases and radiometer paths
+// (wvr/structure_function.hpp).
+
+#include <algorithm>
+#include <cmath>
+#include <complex>
+#include <map>
+#include <numbers>
+#include <sstream>
+
+#include "wvr/constants.hpp"
+#include "wvr/error.hpp"
+#include "wvr/structure_function.hpp"
+
+namespace wvr {
+
+const char* to_string(DiagnosticStatus status) {
+  switch (status) {
+    case DiagnosticStatus::kOk:
+      return "ok";
+    case DiagnosticStatus::kNoData:
+      return "no data";
+    case DiagnosticStatus::kTooFewPoints:
+      return "too few points";
+    case DiagnosticStatus::kNoConvergence:
+      return "no convergence";
+    case DiagnosticStatus::kSolverFailure:
+      return "solver failure";
+  }
+  return "unknown";
+}
+
+void SpatialStructureOptions::validate() const {
+  require_in_range("window_s", window_s, 0.0, 1e7, "s");
+  if (min_samples < 2)
+    throw InvalidInput("min_samples = " + std::to_string(min_samples) + " must be at least 2");
+}
+
+std::string SpatialStructureResult::brief_report() const {
+  std::ostringstream out;
+  out.precision(4);
+  out << to_string(status) << ": " << baselines.size() << " baselines";
+  if (!baselines.empty()) {
+    out << " from " << baselines.front().baseline_m << " to " << baselines.back().baseline_m
+        << " m";
+  }
+  out << ", " << samples_skipped << " samples skipped";
+  if (!message.empty()) out << " [" << message << "]";
+  return out.str();
+}
+
+namespace {
+
+double horizontal_distance_m(const Night& night, int a, int b) {
+  const auto& pa = night.array.position_enu_m[static_cast<std::size_t>(a)];
+  const auto& pb = night.array.position_enu_m[static_cast<std::size_t>(b)];
+  return std::hypot(pb[0] - pa[0], pb[1] - pa[1]);
+}
+
+// Sums of one baseline over its segments.
+struct Accumulator {
+  double sum_sq_m2 = 0.0;
+  std::size_t samples = 0, segments = 0;
+};
+
+SpatialStructureResult finish(const Night& night,
+                              const std::map<std::pair<int, int>, Accumulator>& sums,
+                              std::size_t skipped,
+                              const std::string& what) {
+  SpatialStructureResult result;
+  result.samples_skipped = skipped;
+  for (const auto& [pair, acc] : sums) {
+    if (acc.segments == 0 || acc.samples <= acc.segments) continue;
+    BaselineStructure b;
+    b.antenna_a = pair.first;
+    b.antenna_b = pair.second;
+    b.baseline_m = horizontal_distance_m(night, pair.first, pair.second);
+    // Each segment's mean costs one degree of freedom.
+    b.structure_m2 = acc.sum_sq_m2 / static_cast<double>(acc.samples - acc.segments);
+    b.samples = acc.samples;
+    b.segments = acc.segments;
+    result.baselines.push_back(b);
+  }
+  std::sort(result.baselines.begin(), result.baselines.end(),
+            [](const BaselineStructure& x, const BaselineStructure& y) {
+              return x.baseline_m < y.baseline_m;
+            });
+  if (result.baselines.empty()) {
+    result.status = DiagnosticStatus::kNoData;
+    result.message = "no baseline had enough usable " + what;
+  } else {
+    result.status = DiagnosticStatus::kOk;
+  }
+  return result;
+}
+
+}  // namespace
+
+SpatialStructureResult calibrator_structure_function(const Night& night,
+                                                     std::span<const double> phase_rad,
+                                                     const SpatialStructureOptions& options) {
+  options.validate();
+  const CalibratorPhases& cp = night.calibrator_phases;
+  if (phase_rad.size() != cp.time_s.size() || cp.antenna_pair.size() != cp.time_s.size() ||
+      cp.freq_ghz.size() != cp.time_s.size()) {
+    throw InvalidInput("phase_rad has " + std::to_string(phase_rad.size()) + " values for " +
+                       std::to_string(cp.time_s.size()) + " calibrator rows (antenna_pair " +
+                       std::to_string(cp.antenna_pair.size()) + ", freq_ghz " +
+                       std::to_string(cp.freq_ghz.size()) + ")");
+  }
+  std::vector<const Scan*> scans;
+  for (const Scan& s : night.scans)
+    if (s.intent == ScanIntent::kCalibrator) scans.push_back(&s);
+  if (scans.empty()) {
+    SpatialStructureResult r;
+    r.message = "no calibrator scans in the night";
+    return r;
+  }
+  if (night.antenna_count() < 2) {
+    SpatialStructureResult r;
+    r.message = "fewer than two antennas: no baselines";
+    return r;
+  }
+  const int na = static_cast<int>(night.antenna_count());
+  // Rows of each (baseline, scan), as path deviations are computed per group.
+  struct Sample {
+    double phase_rad, metres_per_rad;
+  };
+  std::map<std::pair<std::pair<int, int>, std::size_t>, std::vector<Sample>> groups;
+  std::size_t skipped = 0;
+  std::size_t scan = 0;
+  for (std::size_t k = 0; k < cp.time_s.size(); ++k) {
+    const double t = cp.time_s[k];
+    while (scan < scans.size() && scans[scan]->stop_s < t) ++scan;
+    const int a = cp.antenna_pair[k][0], b = cp.antenna_pair[k][1];
+    const bool in_scan = scan < scans.size() && t >= scans[scan]->start_s;
+    if (!in_scan || a < 0 || b < 0 || a >= na || b >= na || a == b ||
+        !std::isfinite(phase_rad[k]) || !(cp.freq_ghz[k] > 0.0) || !std::isfinite(t)) {
+      ++skipped;
+      continue;
+    }
+    // One baseline regardless of the row's orientation: phase(b) - phase(a) with a < b.
+    const double sign = a < b ? 1.0 : -1.0;
+    const double metres_per_rad =
+        constants::speed_of_light_m_per_s / (2.0 * std::numbers::pi * cp.freq_ghz[k] * 1e9);
+    groups[{{std::min(a, b), std::max(a, b)}, scan}].push_back(
+        {sign * phase_rad[k], metres_per_rad});
+  }
+  std::map<std::pair<int, int>, Accumulator> sums;
+  for (const auto& [key, rows] : groups) {
+    if (rows.size() < options.min_samples) {
+      skipped += rows.size();
+      continue;
+    }
+    std::complex<double> mean(0.0, 0.0);
+    for (const Sample& s : rows) mean += std::polar(1.0, s.phase_rad);
+    const double centre = std::arg(mean);
+    Accumulator& acc = sums[key.first];
+    for (const Sample& s : rows) {
+      // Wrap-aware deviation from the scan's circular mean, in (-pi, pi].
+      const double dev = std::arg(std::polar(1.0, s.phase_rad - centre));
+      const double dev_m = dev * s.metres_per_rad;
+      acc.sum_sq_m2 += dev_m * dev_m;
+    }
+    acc.samples += rows.size();
+    acc.segments += 1;
+  }
+  return finish(night, sums, skipped, "calibrator rows");
+}
+
+SpatialStructureResult radiometer_structure_function(const Night& night,
+                                                     const AntennaPaths& paths,
+                                                     const SpatialStructureOptions& options) {
+  options.validate();
+  const std::size_t na = paths.antennas;
+  const std::size_t nt = paths.time_s.size();
+  if (na != night.antenna_count() || paths.path_mm.size() != na * nt) {
+    throw InvalidInput("paths: " + std::to_string(paths.antennas) + " antennas x " +
+                       std::to_string(nt) + " times with " + std::to_string(paths.path_mm.size()) +
+                       " path_mm values do not match the night's " +
+                       std::to_string(night.antenna_count()) + " antennas");
+  }
+  if (na < 2) {
+    SpatialStructureResult r;
+    r.message = "fewer than two antennas: no baselines";
+    return r;
+  }
+  // Window index of every sample.
+  std::vector<std::size_t> window(nt, 0);
+  if (options.window_s > 0.0 && nt > 0) {
+    for (std::size_t k = 0; k < nt; ++k) {
+      window[k] = static_cast<std::size_t>(
+          std::max(0.0, std::floor((paths.time_s[k] - paths.time_s[0]) / options.window_s)));
+    }
+  }
+  const std::size_t windows = nt > 0 ? window.back() + 1 : 0;
+  std::map<std::pair<int, int>, Accumulator> sums;
+  std::size_t skipped = 0;
+  std::vector<double> sum(windows), sum_sq(windows);
+  std::vector<std::size_t> count(windows);
+  for (std::size_t a = 0; a < na; ++a) {
+    for (std::size_t b = a + 1; b < na; ++b) {
+      std::fill(sum.begin(), sum.end(), 0.0);
+      std::fill(sum_sq.begin(), sum_sq.end(), 0.0);
+      std::fill(count.begin(), count.end(), 0);
+      const double* la = paths.path_mm.data() + a * nt;
+      const double* lb = paths.path_mm.data() + b * nt;
+      // Shifted sums about the first usable value keep the variance accurate.
+      std::vector<double> shift(windows, std::nan(""));
+      for (std::size_t k = 0; k < nt; ++k) {
+        const double d_m = (lb[k] - la[k]) * 1e-3;
+        if (!std::isfinite(d_m)) {
+          ++skipped;
+          continue;
+        }
+        const std::size_t w = window[k];
+        if (std::isnan(shift[w])) shift[w] = d_m;
+        const double x = d_m - shift[w];
+        sum[w] += x;
+        sum_sq[w] += x * x;
+        ++count[w];
+      }
+      Accumulator acc;
+      for (std::size_t w = 0; w < windows; ++w) {
+        if (count[w] < options.min_samples) {
+          skipped += count[w];
+          continue;
+        }
+        const double n = static_cast<double>(count[w]);
+        acc.sum_sq_m2 += std::max(0.0, sum_sq[w] - sum[w] * sum[w] / n);
+        acc.samples += count[w];
+        acc.segments += 1;
+      }
+      if (acc.segments > 0) sums[{static_cast<int>(a), static_cast<int>(b)}] = acc;
+    }
+  }
+  return finish(night, sums, skipped, "radiometer samples");
+}
+
+StructureFunctionEstimate bin_structure_function(const SpatialStructureResult& result,
+                                                 double bins_per_decade) {
+  require_in_range("bins_per_decade", bins_per_decade, 1e-3, 1e3);
+  std::map<long, std::pair<double, double>> bins;  // bin -> (sum ln d, sum D)
+  std::map<long, std::size_t> counts;
+  for (const BaselineStructure& b : result.baselines) {
+    if (!(b.baseline_m > 0.0) || !std::isfinite(b.structure_m2)) continue;
+    const long bin = std::lround(std::floor(std::log10(b.baseline_m) * bins_per_decade));
+    bins[bin].first += std::log(b.baseline_m);
+    bins[bin].second += b.structure_m2;
+    ++counts[bin];
+  }
+  StructureFunctionEstimate estimate;
+  for (const auto& [bin, s] : bins) {
+    const double n = static_cast<double>(counts[bin]);
+    estimate.separation.push_back(std::exp(s.first / n));
+    estimate.value_m2.push_back(s.second / n);
+    estimate.pair_count.push_back(counts[bin]);
+  }
+  return estimate;
+}
+
+}  // namespace wvr

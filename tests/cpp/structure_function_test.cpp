@@ -1,0 +1,372 @@
+// Structure functions, broken power-law fits and frozen-flow wind: against the slab theory of
+// wvr/phase_screen.hpp and on simulated nights with known layers.
+#include "wvr/structure_function.hpp"
+
+#include <gtest/gtest.h>
+
+#include <cmath>
+#include <iostream>
+#include <numbers>
+
+#include "test_util.hpp"
+#include "wvr/wvr.hpp"
+
+namespace wvr {
+namespace {
+
+// Theory curve of one layer at log-spaced separations.
+struct Curve {
+  std::vector<double> d_m, value_m2;
+};
+Curve theory_curve(double thickness_m, double outer_scale_m, double d_min_m, double d_max_m) {
+  TurbulentLayer layer;
+  layer.thickness_m = thickness_m;
+  layer.outer_scale_m = outer_scale_m;
+  const LayerSpectrum spectrum(layer);
+  Curve c;
+  const int n = 25;
+  for (int i = 0; i < n; ++i) {
+    const double d = d_min_m * std::pow(d_max_m / d_min_m, i / (n - 1.0));
+    c.d_m.push_back(d);
+    c.value_m2.push_back(spectrum.structure_function_m2(d));
+  }
+  return c;
+}
+
+TEST(StructureFunctionTheory, ThickLayerSlopeIsFiveThirds) {
+  // W = 20 km >> d in [5, 200] m, outer scale far away.
+  const Curve c = theory_curve(20000.0, 1e6, 5.0, 200.0);
+  const BrokenPowerLawFit fit = fit_broken_power_law(c.d_m, c.value_m2);
+  ASSERT_TRUE(fit.ok()) << fit.brief_report();
+  EXPECT_NEAR(fit.alpha_short, 5.0 / 3.0, 0.1) << fit.brief_report();
+  // The break then sits at the edge of the data and the far slope is unconstrained.
+  std::cout << "thick theory: " << fit.brief_report() << "\n";
+}
+
+TEST(StructureFunctionTheory, ThinLayerSlopeIsTwoThirds) {
+  // W = 5 m << d in [200, 3000] m << L0 = 1000 km.
+  const Curve c = theory_curve(5.0, 1e6, 200.0, 3000.0);
+  const BrokenPowerLawFit fit = fit_broken_power_law(c.d_m, c.value_m2);
+  ASSERT_TRUE(fit.ok()) << fit.brief_report();
+  EXPECT_NEAR(fit.alpha_long, 2.0 / 3.0, 0.1) << fit.brief_report();
+  std::cout << "thin theory: " << fit.brief_report() << "\n";
+}
+
+// The slab's transition is broad and asymmetric (the thick regime is approached only
+// linearly in d / W), so the break of a fit with a free transition width does not sit where
+// the asymptotes cross (0.343 W, closed form) but further out. Calibrated on the LayerSpectrum
+// curve over W/100 .. 30 W (printed below): d_break = 0.58 W, independent of W.
+constexpr double kFittedBreakOverThickness = 0.58;
+
+TEST(StructureFunctionTheory, BreakScalesWithTheThickness) {
+  const double crossing_ratio = slab_break_over_thickness();
+  EXPECT_NEAR(crossing_ratio, 0.343, 0.001);  // closed form (see the header)
+  for (double w : {100.0, 300.0, 1000.0}) {
+    TurbulentLayer layer;
+    layer.thickness_m = w;
+    layer.outer_scale_m = 1e7;
+    const LayerSpectrum spectrum(layer);
+    // Asymptote constants from the numerical curve far inside each regime.
+    const double d_short = w * 1e-3, d_long = w * 1e2;
+    const double c_short = spectrum.structure_function_m2(d_short) / std::pow(d_short, 5.0 / 3.0);
+    const double c_long = spectrum.structure_function_m2(d_long) / std::pow(d_long, 2.0 / 3.0);
+    const double crossing = c_long / c_short;  // where c_short d^5/3 = c_long d^2/3
+    // The numerical curve's crossing lies 8-9 % above the closed form.
+    EXPECT_NEAR(crossing / w, crossing_ratio, 0.12 * crossing_ratio) << "W = " << w;
+
+    const Curve c = theory_curve(w, 1e7, w / 100.0, w * 30.0);
+    const BrokenPowerLawFit fit = fit_broken_power_law(c.d_m, c.value_m2);
+    ASSERT_TRUE(fit.ok()) << fit.brief_report();
+    EXPECT_NEAR(fit.break_m / (kFittedBreakOverThickness * w), 1.0, 0.25) << fit.brief_report();
+    EXPECT_GT(fit.break_m, crossing);
+    EXPECT_LT(fit.break_m, w);
+    EXPECT_NEAR(fit.alpha_short, 5.0 / 3.0, 0.1) << fit.brief_report();
+    EXPECT_NEAR(fit.alpha_long, 2.0 / 3.0, 0.1) << fit.brief_report();
+    EXPECT_GT(fit.break_sigma_m, 0.0);
+    std::cout << "W = " << w << " m: fitted break / W = " << fit.break_m / w
+              << ", asymptotes cross at " << crossing / w << " W (closed form " << crossing_ratio
+              << "); " << fit.brief_report() << "\n";
+  }
+}
+
+TEST(StructureFunctionTheory, SaturationLevelIsRecovered) {
+  TurbulentLayer layer;
+  layer.thickness_m = 10.0;
+  layer.outer_scale_m = 2000.0;
+  const LayerSpectrum spectrum(layer);
+  std::vector<double> d, v;
+  for (int i = 0; i < 25; ++i) {
+    d.push_back(30.0 * std::pow(1000.0, i / 24.0));
+    v.push_back(spectrum.structure_function_m2(d.back()));
+  }
+  BrokenPowerLawOptions options;
+  options.fit_saturation = true;
+  const BrokenPowerLawFit fit = fit_broken_power_law(d, v, options);
+  ASSERT_TRUE(fit.ok()) << fit.brief_report();
+  // D_sat (1 - exp(-D / D_sat)) only approximates the von Karman approach to saturation.
+  EXPECT_NEAR(fit.saturation_m2 / spectrum.saturation_m2(), 1.0, 0.3) << fit.brief_report();
+  std::cout << "saturating theory: " << fit.brief_report() << " (D(inf) "
+            << spectrum.saturation_m2() << ")\n";
+}
+
+TEST(StructureFunctionTheory, FewPointsGiveASinglePowerLawAndBadOptionsThrow) {
+  const std::vector<double> d = {10.0, 100.0, 1000.0};
+  const std::vector<double> v = {1.0, std::pow(10.0, 2.0 / 3.0), std::pow(100.0, 2.0 / 3.0)};
+  const BrokenPowerLawFit fit = fit_broken_power_law(d, v);
+  EXPECT_EQ(fit.status, DiagnosticStatus::kTooFewPoints);
+  EXPECT_NEAR(fit.alpha_short, 2.0 / 3.0, 1e-9);
+  EXPECT_NEAR(fit.evaluate_m2(100.0), v[1], 1e-9 * v[1]);
+  const std::vector<double> one = {5.0};
+  EXPECT_EQ(fit_broken_power_law(one, one).status, DiagnosticStatus::kNoData);
+  const std::vector<double> nan_values = {std::nan(""), -1.0, 0.0};
+  EXPECT_EQ(fit_broken_power_law(d, nan_values).status, DiagnosticStatus::kNoData);
+  EXPECT_THROW(fit_broken_power_law(d, one), InvalidInput);
+  BrokenPowerLawOptions bad;
+  bad.transition_width = -1.0;
+  EXPECT_THROW(fit_broken_power_law(d, v, bad), InvalidInput);
+  bad = {};
+  bad.max_iterations = 0;
+  EXPECT_THROW(fit_broken_power_law(d, v, bad), InvalidInput);
+}
+
+// ---- Simulated nights ----
+
+std::string layer_night(double thickness_m,
+                        double wind_east_m_s,
+                        double wind_north_m_s,
+                        std::uint64_t seed,
+                        int antennas,
+                        double duration_s,
+                        double integration_s) {
+  return "name = \"structure function night\"\nseed = " + std::to_string(seed) +
+         "\nduration_s = " + std::to_string(duration_s) +
+         "\nintegration_s = " + std::to_string(integration_s) + R"(
+site_file = "sites/demo-site.toml"
+radiometer_file = "radiometers/demo-183-dsb.toml"
+screen_spacing_m = 5.0
+[array]
+layout = "extended"
+min_spacing_m = 20.0
+radius_m = 1600.0
+antenna_count = )" +
+         std::to_string(antennas) +
+         R"(
+[atmosphere]
+pwv_mm = 1.0
+[source]
+declination_deg = -60.0
+start_hour_angle_h = -0.5
+[observing]
+calibrator_scan_s = 120.0
+target_scan_s = 120.0
+thermal_phase_noise_deg = 1.0
+[[turbulence]]
+kind = "wet"
+height_m = 600.0
+outer_scale_m = 200000.0
+path_rms_um = 500.0
+thickness_m = )" +
+         std::to_string(thickness_m) + "\nwind_east_m_s = " + std::to_string(wind_east_m_s) +
+         "\nwind_north_m_s = " + std::to_string(wind_north_m_s) + "\n";
+}
+
+// Radiometer paths through the retrieval and the offline corrector.
+AntennaPaths retrieved_paths(const Night& night, const Scenario& scenario) {
+  const NightRetrieval retrieval = retrieve_night(night, scenario.site.parameters);
+  return compute_wvr_paths(night, CoefficientWindows::from_retrieval(retrieval));
+}
+
+// Spatial structure function of the radiometer paths, binned and fitted, and the same fit of
+// the theory curve at the same separations (the calibrated expectation for the break).
+struct NightFit {
+  BrokenPowerLawFit measured, theory;
+  StructureFunctionEstimate binned;
+};
+NightFit fit_night(double thickness_m,
+                   const std::vector<std::uint64_t>& seeds,
+                   double max_baseline_m = 1e9) {
+  // Baselines of every seed's night pooled before binning: one hour of screen holds only a
+  // few independent samples of the km-scale structure.
+  SpatialStructureResult sf;
+  Scenario scenario;
+  for (std::uint64_t seed : seeds) {
+    const std::string text = layer_night(thickness_m, 8.0, 3.0, seed, 20, 3600.0, 2.0);
+    scenario = parse_scenario(text, "test.toml", test::testdata(""));
+    const Night night = simulate_night(scenario);
+    const AntennaPaths paths = retrieved_paths(night, scenario);
+    const SpatialStructureResult one = radiometer_structure_function(night, paths);
+    EXPECT_TRUE(one.ok()) << one.brief_report();
+    sf.baselines.insert(sf.baselines.end(), one.baselines.begin(), one.baselines.end());
+  }
+  const std::uint64_t seed = seeds.front();
+  NightFit out;
+  const StructureFunctionEstimate all = bin_structure_function(sf, 6.0);
+  for (std::size_t i = 0; i < all.separation.size(); ++i) {
+    if (all.separation[i] > max_baseline_m) continue;
+    out.binned.separation.push_back(all.separation[i]);
+    out.binned.value_m2.push_back(all.value_m2[i]);
+    out.binned.pair_count.push_back(all.pair_count[i]);
+  }
+  out.measured = fit_broken_power_law(out.binned.separation, out.binned.value_m2);
+  const LayerSpectrum spectrum(scenario.turbulence[0].layer);
+  std::vector<double> theory;
+  for (double d : out.binned.separation) theory.push_back(spectrum.structure_function_m2(d));
+  out.theory = fit_broken_power_law(out.binned.separation, theory);
+  std::cout << "W = " << thickness_m << " m, seed " << seed << ": measured "
+            << out.measured.brief_report() << "\n   theory " << out.theory.brief_report() << "\n";
+  return out;
+}
+
+TEST(StructureFunctionNight, ThickLayerGivesFiveThirdsOnShortBaselines) {
+  // W = 20 km: every baseline is in the thick regime; fit those up to 300 m.
+  const NightFit f = fit_night(20000.0, {11}, 300.0);
+  ASSERT_TRUE(f.measured.ok() || f.measured.status == DiagnosticStatus::kTooFewPoints)
+      << f.measured.brief_report();
+  EXPECT_NEAR(f.measured.alpha_short, 5.0 / 3.0, 0.1);
+}
+
+TEST(StructureFunctionNight, BreakFollowsTheThickness) {
+  // W = 600 m: baselines 20 m - 3 km span both regimes.
+  const NightFit f = fit_night(600.0, {14, 15, 16});
+  ASSERT_TRUE(f.measured.ok()) << f.measured.brief_report();
+  ASSERT_TRUE(f.theory.ok()) << f.theory.brief_report();
+  EXPECT_NEAR(f.measured.break_m / f.theory.break_m, 1.0, 0.25);
+  EXPECT_NEAR(f.measured.break_m / (kFittedBreakOverThickness * 600.0), 1.0, 0.25);
+  EXPECT_GT(f.measured.alpha_short, f.measured.alpha_long + 0.4);
+}
+
+Night wind_night(double east_m_s, double north_m_s, std::uint64_t seed, AntennaPaths* paths) {
+  const std::string text = layer_night(1000.0, east_m_s, north_m_s, seed, 10, 1200.0, 1.0);
+  const Scenario scenario = parse_scenario(text, "test.toml", test::testdata(""));
+  Night night = simulate_night(scenario);
+  *paths = retrieved_paths(night, scenario);
+  return night;
+}
+
+TEST(StructureFunctionNight, WindSpeedAndDirectionAreRecovered) {
+  const std::vector<std::array<double, 2>> winds = {{8.0, 3.0}, {-5.0, 6.0}, {2.0, -12.0}};
+  std::uint64_t seed = 20;
+  for (const auto& w : winds) {
+    AntennaPaths paths;
+    const Night night = wind_night(w[0], w[1], seed++, &paths);
+    const WindEstimate wind = estimate_wind(night, paths);
+    ASSERT_TRUE(wind.ok()) << wind.brief_report();
+    const double speed = std::hypot(w[0], w[1]);
+    const double towards = std::atan2(w[0], w[1]) * 180.0 / std::numbers::pi;
+    double diff = std::fmod(wind.direction_to_deg - towards + 540.0, 360.0) - 180.0;
+    EXPECT_NEAR(wind.speed_m_s / speed, 1.0, 0.1) << wind.brief_report();
+    EXPECT_LT(std::abs(diff), 15.0) << wind.brief_report();
+    EXPECT_GE(wind.pairs_used, 5u);
+    EXPECT_GT(wind.speed_sigma_m_s, 0.0);
+    std::cout << "wind (" << w[0] << ", " << w[1] << ") m/s = " << speed << " m/s towards "
+              << towards << " deg: " << wind.brief_report() << "\n";
+  }
+}
+
+TEST(StructureFunctionNight, TemporalStructureFollowsFrozenFlow) {
+  // D(tau) of one antenna's path equals the spatial D at |v| tau (Taylor).
+  AntennaPaths paths;
+  const Night night = wind_night(8.0, 3.0, 30, &paths);
+  const std::vector<double> lags = {2.0, 5.0, 10.0, 20.0};
+  const std::vector<std::array<int, 2>> pairs = {{0, 1}};
+  const TemporalStructureResult antenna = temporal_path_structure(paths, lags);
+  const TemporalStructureResult baseline = temporal_path_structure(paths, lags, pairs);
+  ASSERT_TRUE(antenna.ok()) << antenna.brief_report();
+  ASSERT_TRUE(baseline.ok());
+  EXPECT_EQ(antenna.estimates.size(), night.antenna_count());
+  EXPECT_EQ(baseline.series[0][1], 1);
+  EXPECT_NEAR(antenna.sample_interval_s, 1.0, 1e-9);
+  const LayerSpectrum spectrum(TurbulentLayer{600.0, 1000.0, 200000.0, 8.0, 3.0, 500e-6, 1000.0});
+  for (std::size_t i = 0; i < lags.size(); ++i) {
+    double mean = 0.0;
+    for (const auto& e : antenna.estimates)
+      mean += e.value_m2[i] / static_cast<double>(antenna.estimates.size());
+    const double expected = spectrum.structure_function_m2(std::hypot(8.0, 3.0) * lags[i]);
+    // The slant path is longer than the zenith one by the airmass (D by its square).
+    const double airmass =
+        1.0 / std::sin(night.pointing.elevation_deg[0] * std::numbers::pi / 180.0);
+    std::cout << "lag " << lags[i] << " s: D " << mean << " m^2, theory x airmass^2 "
+              << expected * airmass * airmass << "\n";
+    EXPECT_NEAR(mean / (expected * airmass * airmass), 1.0, 0.35);
+  }
+  EXPECT_THROW(temporal_path_structure(paths, std::vector<double>{1e7}), InvalidInput);
+}
+
+TEST(StructureFunctionNight, CalibratorStructureIsInPathUnitsAndCappedByTheScan) {
+  AntennaPaths paths;
+  const Night night = wind_night(8.0, 3.0, 31, &paths);
+  const SpatialStructureResult cal =
+      calibrator_structure_function(night, night.calibrator_phases.phase_rad);
+  ASSERT_TRUE(cal.ok()) << cal.brief_report();
+  EXPECT_EQ(cal.baselines.size(), night.antenna_count() - 1);  // baselines to antenna 0
+  // Path units: the same phases at twice the frequency are half the path. A constant phase
+  // offset (wrapped) leaves the wrap-aware deviations alone.
+  Night shifted = night;
+  for (std::size_t k = 0; k < shifted.calibrator_phases.phase_rad.size(); ++k) {
+    shifted.calibrator_phases.freq_ghz[k] *= 2.0;
+    shifted.calibrator_phases.phase_rad[k] =
+        std::remainder(night.calibrator_phases.phase_rad[k] + 2.5, 2.0 * std::numbers::pi);
+  }
+  const SpatialStructureResult cal2 =
+      calibrator_structure_function(shifted, shifted.calibrator_phases.phase_rad);
+  ASSERT_EQ(cal2.baselines.size(), cal.baselines.size());
+  const SpatialStructureResult rad = radiometer_structure_function(night, paths);
+  for (std::size_t i = 0; i < cal.baselines.size(); ++i) {
+    EXPECT_NEAR(cal2.baselines[i].structure_m2 / cal.baselines[i].structure_m2, 0.25, 1e-9);
+    // Within 120 s scans the screen moves ~1 km: long baselines see less than the full D.
+    if (cal.baselines[i].baseline_m > 1500.0) {
+      for (const BaselineStructure& r : rad.baselines) {
+        if (r.antenna_a == cal.baselines[i].antenna_a &&
+            r.antenna_b == cal.baselines[i].antenna_b) {
+          EXPECT_LT(cal.baselines[i].structure_m2, r.structure_m2);
+        }
+      }
+    }
+  }
+}
+
+TEST(StructureFunctionNight, BadInputGivesAStatusOrThrows) {
+  AntennaPaths paths;
+  const Night night = wind_night(8.0, 3.0, 32, &paths);
+  // No calibrator scans.
+  Night no_scans = night;
+  no_scans.scans.clear();
+  const SpatialStructureResult none =
+      calibrator_structure_function(no_scans, no_scans.calibrator_phases.phase_rad);
+  EXPECT_EQ(none.status, DiagnosticStatus::kNoData);
+  EXPECT_NE(none.message.find("no calibrator scans"), std::string::npos);
+  // All-NaN paths.
+  AntennaPaths nan_paths = paths;
+  std::fill(nan_paths.path_mm.begin(), nan_paths.path_mm.end(), std::nan(""));
+  const SpatialStructureResult nan_sf = radiometer_structure_function(night, nan_paths);
+  EXPECT_EQ(nan_sf.status, DiagnosticStatus::kNoData) << nan_sf.brief_report();
+  const WindEstimate nan_wind = estimate_wind(night, nan_paths);
+  EXPECT_EQ(nan_wind.status, DiagnosticStatus::kNoData) << nan_wind.brief_report();
+  const std::vector<double> lags = {2.0};
+  EXPECT_EQ(temporal_path_structure(nan_paths, lags).status, DiagnosticStatus::kNoData);
+  // A single antenna.
+  Night one = night;
+  one.array.antenna_names.resize(1);
+  one.array.position_enu_m.resize(1);
+  AntennaPaths one_paths = paths;
+  one_paths.antennas = 1;
+  one_paths.path_mm.resize(paths.time_s.size());
+  EXPECT_EQ(radiometer_structure_function(one, one_paths).status, DiagnosticStatus::kNoData);
+  EXPECT_EQ(estimate_wind(one, one_paths).status, DiagnosticStatus::kNoData);
+  EXPECT_EQ(calibrator_structure_function(one, one.calibrator_phases.phase_rad).status,
+            DiagnosticStatus::kNoData);
+  // Shapes and options.
+  EXPECT_THROW(radiometer_structure_function(one, paths), InvalidInput);
+  EXPECT_THROW(calibrator_structure_function(night, lags), InvalidInput);
+  SpatialStructureOptions bad_sf;
+  bad_sf.window_s = -1.0;
+  EXPECT_THROW(radiometer_structure_function(night, paths, bad_sf), InvalidInput);
+  WindOptions bad_wind;
+  bad_wind.min_speed_m_s = 0.0;
+  EXPECT_THROW(estimate_wind(night, paths, bad_wind), InvalidInput);
+  bad_wind = {};
+  bad_wind.max_baseline_m = -5.0;
+  EXPECT_THROW(estimate_wind(night, paths, bad_wind), InvalidInput);
+}
+}  // namespace
+}  // namespace wvr
