@@ -6,6 +6,7 @@
 #include <map>
 #include <numbers>
 
+#include "statistics.hpp"
 #include "wvr/constants.hpp"
 #include "wvr/error.hpp"
 
@@ -27,14 +28,6 @@ const std::vector<T>& dataset(const ResultGroup& group,
   if (values == nullptr)
     throw InvalidInput("/results/" + group.stage + "/" + name + " has an unexpected type");
   return *values;
-}
-
-double median(std::vector<double> v) {
-  v.erase(std::remove_if(v.begin(), v.end(), [](double x) { return !std::isfinite(x); }), v.end());
-  if (v.empty()) return std::nan("");
-  std::sort(v.begin(), v.end());
-  const std::size_t n = v.size();
-  return n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
 }
 
 double k_rad_per_mm(double freq_ghz) {
@@ -303,10 +296,10 @@ CorrectionMetrics evaluate_correction(const Night& night,
       m.antennas[a] = {0, std::nan(""), std::nan(""), std::nan(""), std::nan(""), std::nan("")};
     }
   }
-  m.phase_rms_before_deg = median(rb);
-  m.phase_rms_after_deg = median(ra);
-  m.coherence_before = median(cb);
-  m.coherence_after = median(ca);
+  m.phase_rms_before_deg = detail::finite_median(rb);
+  m.phase_rms_after_deg = detail::finite_median(ra);
+  m.coherence_before = detail::finite_median(cb);
+  m.coherence_after = detail::finite_median(ca);
   m.improvement_factor = m.phase_rms_before_deg / m.phase_rms_after_deg;
   return m;
 }

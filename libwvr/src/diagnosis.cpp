@@ -6,6 +6,7 @@
 #include <numbers>
 #include <sstream>
 
+#include "statistics.hpp"
 #include "wvr/constants.hpp"
 #include "wvr/error.hpp"
 
@@ -67,14 +68,6 @@ namespace {
 constexpr double kTwoPi = 2.0 * std::numbers::pi;
 constexpr double kDeg = 180.0 / std::numbers::pi;
 
-double median(std::vector<double> v) {
-  v.erase(std::remove_if(v.begin(), v.end(), [](double x) { return !std::isfinite(x); }), v.end());
-  if (v.empty()) return std::nan("");
-  std::sort(v.begin(), v.end());
-  const std::size_t n = v.size();
-  return n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
-}
-
 // Statistics of one baseline in one calibrator scan.
 struct BaselineWindow {
   std::size_t a = 0, b = 0, n = 0;
@@ -113,7 +106,7 @@ std::uint8_t antenna_radiometer_faults(const Night& night,
     ++n;
   }
   const std::size_t total = k1 - k0;
-  chi2_median = median(chi2);
+  chi2_median = detail::finite_median(chi2);
   if (total > 0 &&
       static_cast<double>(unusable) > th.fault_unusable_fraction * static_cast<double>(total))
     faults |= kFaultNoData;
@@ -202,7 +195,7 @@ NightDiagnosis diagnose_night(const Night& night,
     double unused = 0.0;
     for (std::size_t a = 0; a < na; ++a)
       antenna_radiometer_faults(night, r, a, k0, k1, std::nan(""), th, chi2[a]);
-    const double array_chi2 = median(chi2);
+    const double array_chi2 = detail::finite_median(chi2);
     std::size_t cloudy = 0, judged = 0;
     for (std::size_t a = 0; a < na; ++a) {
       w.antenna_faults[a] = antenna_radiometer_faults(night, r, a, k0, k1, array_chi2, th, unused);
@@ -288,7 +281,7 @@ NightDiagnosis diagnose_night(const Night& night,
     // Antennas whose residual stands out (reference-mode rows name the antenna by baseline).
     std::vector<double> after_all;
     for (const BaselineWindow& bw : baselines) after_all.push_back(bw.rms_after);
-    const double after_median = median(after_all);
+    const double after_median = detail::finite_median(after_all);
     std::vector<double> per_antenna_after(na, std::nan(""));
     {
       std::vector<std::vector<double>> values(na);
@@ -296,14 +289,14 @@ NightDiagnosis diagnose_night(const Night& night,
         values[bw.a].push_back(bw.rms_after);
         values[bw.b].push_back(bw.rms_after);
       }
-      for (std::size_t a = 0; a < na; ++a) per_antenna_after[a] = median(values[a]);
+      for (std::size_t a = 0; a < na; ++a) per_antenna_after[a] = detail::finite_median(values[a]);
     }
     for (std::size_t a = 0; a < na; ++a) {
       std::vector<double> others;
       for (const BaselineWindow& bw : baselines) {
         if (bw.a != a && bw.b != a) others.push_back(bw.floor);
       }
-      const double floor_ref = median(others);
+      const double floor_ref = detail::finite_median(others);
       if (std::isfinite(per_antenna_after[a]) &&
           per_antenna_after[a] > th.fault_residual_ratio * after_median &&
           per_antenna_after[a] > th.dry_floor_ratio * floor_ref) {
@@ -326,14 +319,14 @@ NightDiagnosis diagnose_night(const Night& night,
       pred_rms.push_back(bw.predicted_rms);
       refit.push_back(bw.rms_refit);
     }
-    const double refit_deg = median(refit) * kDeg;
-    w.rms_before_deg = median(before) * kDeg;
-    w.rms_after_deg = median(after) * kDeg;
-    w.floor_deg = median(floors) * kDeg;
+    const double refit_deg = detail::finite_median(refit) * kDeg;
+    w.rms_before_deg = detail::finite_median(before) * kDeg;
+    w.rms_after_deg = detail::finite_median(after) * kDeg;
+    w.floor_deg = detail::finite_median(floors) * kDeg;
     w.improvement_factor = w.rms_before_deg / w.rms_after_deg;
-    w.correlation = median(corr);
-    w.slope = median(slopes);
-    w.radiometer_path_rms_um = median(pred_rms);
+    w.correlation = detail::finite_median(corr);
+    w.slope = detail::finite_median(slopes);
+    w.radiometer_path_rms_um = detail::finite_median(pred_rms);
     bool any_fault = false;
     for (std::uint8_t f : w.antenna_faults) any_fault |= f != 0;
     std::ostringstream reason;

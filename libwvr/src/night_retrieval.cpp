@@ -9,6 +9,7 @@
 #include <type_traits>
 #include <variant>
 
+#include "statistics.hpp"
 #include "wvr/error.hpp"
 #include "wvr/fast_sky_model.hpp"
 
@@ -55,22 +56,6 @@ std::vector<double> surface_temperature_at(const Night& night) {
     out.push_back((1 - f) * w.temperature_k[j] + f * w.temperature_k[j + 1]);
   }
   return out;
-}
-
-double median(std::vector<double> v) {
-  if (v.empty()) return std::nan("");
-  const auto mid = v.begin() + static_cast<std::ptrdiff_t>(v.size() / 2);
-  std::nth_element(v.begin(), mid, v.end());
-  return *mid;
-}
-
-double percentile(std::vector<double> v, double q) {
-  if (v.empty()) return std::nan("");
-  std::sort(v.begin(), v.end());
-  const double position = q * static_cast<double>(v.size() - 1);
-  const std::size_t i = static_cast<std::size_t>(position);
-  const double f = position - static_cast<double>(i);
-  return i + 1 < v.size() ? (1 - f) * v[i] + f * v[i + 1] : v[i];
 }
 
 }  // namespace
@@ -216,10 +201,10 @@ NightRetrieval retrieve_night(const Night& night,
                           NodeTools{Retriever(model, options.window_fit), model.make_workspace()})
                  .first;
       }
-      RetrievalInput input{mean, window_noise, el, median(pwvs),
+      RetrievalInput input{mean, window_noise, el, detail::finite_median(pwvs),
                            temperature - (t_lo + static_cast<double>(node))};
       const RetrievalResult fit = it->second.retriever.fit(input);
-      out.window_chi2_per_dof[aw] = median(chis);
+      out.window_chi2_per_dof[aw] = detail::finite_median(chis);
       if (!fit.ok()) {
         out.window_flags[aw] |= kFlagFitFailed;
         continue;
@@ -355,17 +340,17 @@ NightRetrievalSummary summarize(const NightRetrieval& r) {
     pwv.push_back(r.pwv_mm[i]);
     chi2.push_back(r.chi2_per_dof[i]);
   }
-  s.pwv_median_mm = percentile(pwv, 0.5);
-  s.pwv_p10_mm = percentile(pwv, 0.1);
-  s.pwv_p90_mm = percentile(pwv, 0.9);
-  s.chi2_per_dof_median = percentile(chi2, 0.5);
+  s.pwv_median_mm = detail::finite_quantile(pwv, 0.5);
+  s.pwv_p10_mm = detail::finite_quantile(pwv, 0.1);
+  s.pwv_p90_mm = detail::finite_quantile(pwv, 0.9);
+  s.chi2_per_dof_median = detail::finite_quantile(chi2, 0.5);
   for (std::size_t c = 0; c < r.channels; ++c) {
     std::vector<double> values;
     for (std::size_t aw = 0; aw < r.antennas * r.windows; ++aw) {
       const double v = r.path_sensitivity_k_per_mm[aw * r.channels + c];
       if (std::isfinite(v)) values.push_back(v);
     }
-    s.path_sensitivity_k_per_mm.push_back(percentile(values, 0.5));
+    s.path_sensitivity_k_per_mm.push_back(detail::finite_quantile(values, 0.5));
   }
   return s;
 }

@@ -1,12 +1,10 @@
 #include "wvr/radiometer.hpp"
 
-#include <toml++/toml.h>
-
 #include <cmath>
-#include <fstream>
 #include <numbers>
 #include <sstream>
 
+#include "config_text.hpp"
 #include "wvr/error.hpp"
 
 namespace wvr {
@@ -128,16 +126,8 @@ std::vector<std::vector<QuadratureNode>> channel_quadrature(const RadiometerConf
 
 RadiometerConfig parse_radiometer_config(const std::string& toml_text,
                                          const std::string& source_name) {
-  toml::table table;
-  try {
-    table = toml::parse(toml_text, source_name);
-  } catch (const toml::parse_error& error) {
-    std::ostringstream msg;
-    msg << source_name << ": not valid TOML at line " << error.source().begin.line << ": "
-        << error.description();
-    throw InvalidInput(msg.str());
-  }
-  auto number = [&](const toml::node_view<toml::node>& node, const std::string& field,
+  const toml::table table = detail::parse_toml(toml_text, source_name);
+  auto number = [&](const toml::node_view<const toml::node>& node, const std::string& field,
                     std::optional<double> fallback) -> double {
     if (!node) {
       if (fallback) return *fallback;
@@ -199,11 +189,7 @@ RadiometerConfig parse_radiometer_config(const std::string& toml_text,
 }
 
 RadiometerConfig load_radiometer_config(const std::filesystem::path& path) {
-  std::ifstream in(path);
-  if (!in) throw InvalidInput("radiometer file " + path.string() + " cannot be opened");
-  std::ostringstream text;
-  text << in.rdbuf();
-  return parse_radiometer_config(text.str(), path.string());
+  return parse_radiometer_config(detail::read_text_file(path, "radiometer file"), path.string());
 }
 
 }  // namespace wvr

@@ -1,12 +1,9 @@
 #include "wvr/scenario.hpp"
 
-#include <toml++/toml.h>
-
 #include <algorithm>
 #include <cmath>
-#include <fstream>
-#include <sstream>
 
+#include "config_text.hpp"
 #include "wvr/error.hpp"
 
 namespace wvr {
@@ -209,15 +206,7 @@ std::vector<double> number_list(const toml::node* node, const std::string& where
 Scenario parse_scenario(const std::string& toml_text,
                         const std::string& source,
                         const std::filesystem::path& base_directory) {
-  toml::table root;
-  try {
-    root = toml::parse(toml_text, source);
-  } catch (const toml::parse_error& error) {
-    std::ostringstream msg;
-    msg << source << ": not valid TOML at line " << error.source().begin.line << ": "
-        << error.description();
-    throw InvalidInput(msg.str());
-  }
+  const toml::table root = detail::parse_toml(toml_text, source);
   const TomlReader top(root, source, "");
   Scenario s;
   s.name = top.text("name", "unnamed scenario");
@@ -333,11 +322,8 @@ Scenario parse_scenario(const std::string& toml_text,
 }
 
 Scenario load_scenario(const std::filesystem::path& path) {
-  std::ifstream in(path);
-  if (!in) throw InvalidInput("scenario file " + path.string() + " cannot be opened");
-  std::ostringstream text;
-  text << in.rdbuf();
-  return parse_scenario(text.str(), path.string(), path.parent_path());
+  return parse_scenario(detail::read_text_file(path, "scenario file"), path.string(),
+                        path.parent_path());
 }
 
 }  // namespace wvr

@@ -1,24 +1,13 @@
 #include "wvr/site_config.hpp"
 
-#include <toml++/toml.h>
 
-#include <fstream>
-#include <sstream>
-
+#include "config_text.hpp"
 #include "wvr/error.hpp"
 
 namespace wvr {
 
 SiteConfig parse_site_config(const std::string& toml_text, const std::string& source_name) {
-  toml::table table;
-  try {
-    table = toml::parse(toml_text, source_name);
-  } catch (const toml::parse_error& error) {
-    std::ostringstream msg;
-    msg << source_name << ": not valid TOML at line " << error.source().begin.line << ": "
-        << error.description();
-    throw InvalidInput(msg.str());
-  }
+  const toml::table table = detail::parse_toml(toml_text, source_name);
   auto read = [&](const toml::table& t, const std::string& prefix, const char* key, double& out) {
     const toml::node* node = t.get(key);
     if (node == nullptr) return false;
@@ -59,11 +48,7 @@ SiteConfig parse_site_config(const std::string& toml_text, const std::string& so
 }
 
 SiteConfig load_site_config(const std::filesystem::path& path) {
-  std::ifstream in(path);
-  if (!in) throw InvalidInput("site file " + path.string() + " cannot be opened");
-  std::ostringstream text;
-  text << in.rdbuf();
-  return parse_site_config(text.str(), path.string());
+  return parse_site_config(detail::read_text_file(path, "site file"), path.string());
 }
 
 }  // namespace wvr

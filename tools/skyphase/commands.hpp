@@ -14,5 +14,6 @@ void add_retrieve_command(CLI::App& app);
 void add_calibrate_command(CLI::App& app);
 void add_correct_command(CLI::App& app);
 void add_diagnose_command(CLI::App& app);
+void add_report_command(CLI::App& app);
 
 }  // namespace skyphase
