@@ -2,7 +2,8 @@
 # The README's first command: installs what is missing, builds, and runs the main job on the
 # bundled demo: the channel model of the demo 183 GHz radiometer at the demo site, then a
 # simulated 2-hour night of the demo array through the whole chain
-# (simulate -> inspect -> retrieve -> calibrate -> correct) with a before/after summary.
+# (simulate -> inspect -> retrieve -> calibrate -> correct) with a before/after summary, and
+# the night report (out/demo-report/index.html).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 tools/build.sh > build.log 2>&1 || { tail -n 40 build.log; exit 1; }
@@ -24,3 +25,5 @@ build/tools/skyphase calibrate out/demo-retrieved.h5 -o out/demo-calibrated.h5 \
 echo
 build/tools/skyphase correct out/demo-calibrated.h5 -o out/demo-corrected.h5 \
   --site testdata/sites/demo-site.toml --overwrite
+echo
+build/tools/skyphase report out/demo-night.h5 -o out/demo-report --site testdata/sites/demo-site.toml

@@ -120,3 +120,39 @@ def test_unreadable_files_are_reported(tmp_path):
     sounding.write_text("height_m,pressure_hpa,temperature_c,dewpoint_c\n100,1000,15,5\n90,990,14,4\n")
     result = run("spectrum", "--freq-ghz", "183", "--sounding", str(sounding), check=False)
     assert result.returncode == 2 and "level 2" in result.stderr
+
+
+def small_demo_scenario(tmp_path):
+    """The demo scenario shortened to 15 minutes (its faults stay on antennas 11 and 27)."""
+    with open(os.path.join(TESTDATA, "demo-scenario.toml")) as f:
+        text = f.read()
+    text = text.replace("duration_s = 7200.0", "duration_s = 900.0").replace("antenna_count = 40", "antenna_count = 30")
+    data = os.path.abspath(TESTDATA) + "/"
+    text = text.replace('site_file = "', 'site_file = "' + data).replace('radiometer_file = "', 'radiometer_file = "' + data)
+    path = tmp_path / "scenario.toml"
+    path.write_text(text)
+    return path
+
+
+def test_the_whole_chain_and_the_report(tmp_path):
+    night = tmp_path / "night.h5"
+    run("simulate", str(small_demo_scenario(tmp_path)), "-o", str(night))
+    before = night.read_bytes()
+    summary = json.loads(run("correct", str(night), "-o", str(tmp_path / "corrected.h5"), "--site", SITE,
+                             "--format", "json").stdout)
+    for key in ("scale", "scale_sigma", "phase_rms_before_deg", "phase_rms_after_deg", "improvement_factor",
+                "coherence_before", "coherence_after", "antennas"):
+        assert key in summary, key
+    assert summary["calibrated"] is False  # correct without calibrate assumes scale 1 and says so
+    assert summary["phase_rms_after_deg"] < summary["phase_rms_before_deg"]
+    diagnosis = json.loads(run("diagnose", str(night), "-o", str(tmp_path / "diagnosed.h5"), "--site", SITE,
+                               "--format", "json").stdout)
+    assert diagnosis["windows"] and all("verdict" in w and "start_s" in w and "stop_s" in w for w in diagnosis["windows"])
+    for key in ("structure_function", "wind_speed_m_s", "wind_direction_deg"):
+        assert key in diagnosis, key
+    report_dir = tmp_path / "report"
+    run("report", str(night), "-o", str(report_dir), "--site", SITE)
+    html = (report_dir / "index.html").read_text()
+    assert "<img" in html and "data-json" in html
+    assert json.loads((report_dir / "summary.json").read_text())["windows"]
+    assert night.read_bytes() == before  # inputs are never modified

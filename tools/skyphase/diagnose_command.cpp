@@ -36,6 +36,7 @@ nlohmann::ordered_json fit_json(const wvr::BrokenPowerLawFit& f,
   j["break_m_sigma"] = number(f.break_sigma_m);
   j["amplitude_at_break_m2"] = number(f.amplitude_m2);
   j["saturation_m2"] = number(f.saturation_m2);
+  j["transition_width"] = number(f.transition_width);
   nlohmann::ordered_json sep = nlohmann::ordered_json::array(),
                          val = nlohmann::ordered_json::array(),
                          fitted = nlohmann::ordered_json::array();
