@@ -2,7 +2,7 @@
 // numbers from memory, formulas checked against the official validation table in tests).
 //
 // gamma = 0.1820 f (N''_ox + N''_wv) dB/km with f in GHz, p and e in hPa, theta = 300/T.
-// The code is templated on the scalar so that one transcription of the equations serves
+// The code is templated on the scalar so that one rendering of the equations serves
 // both plain values and ceres::Jet partial derivatives.
 #include <ceres/jet.h>
 

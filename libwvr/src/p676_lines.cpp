@@ -2,7 +2,7 @@
 // f0 GHz, a1..a6) and Table 2 (water vapour, 35 lines including the 1780 GHz pseudo-line that
 // represents the water-vapour continuum: f0 GHz, b1..b6). Transcribed from the tables shipped
 // in testdata/reference/itu-r-p676-13/ (ITU-Rpy commit 6d7f35c, cross-checked against an
-// independent transcription); the P.676-12 tables are identical.
+// independent copy of the tables); the P.676-12 tables are identical.
 #include "p676_lines.hpp"
 
 namespace wvr::detail {

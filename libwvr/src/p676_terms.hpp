@@ -1,6 +1,6 @@
 #pragma once
 // Line strengths, widths and mixing of ITU-R P.676-13 (08/2022) Annex 1 for one gas state,
-// shared by the absorption model and the dispersive refractivity (one transcription of eqs.
+// shared by the absorption model and the dispersive refractivity (one rendering of eqs.
 // 3, 6 and 7). Templated on the scalar so ceres::Jet partial derivatives flow through.
 #include <ceres/jet.h>
 
