@@ -1,6 +1,5 @@
 #include "wvr/site_config.hpp"
 
-
 #include "config_text.hpp"
 #include "wvr/error.hpp"
 
