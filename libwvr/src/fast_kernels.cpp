@@ -8,6 +8,26 @@
 
 namespace wvr::detail {
 
+namespace {
+
+// out[f] = scale * sum_m c[m * nf + f] x^m for one layer's [power][freq] table.
+inline void horner(const double* __restrict c,
+                   std::size_t np,
+                   std::size_t nf,
+                   double x,
+                   double scale,
+                   double* __restrict out) {
+  const std::size_t top = np - 1;
+  for (std::size_t f = 0; f < nf; ++f) out[f] = c[top * nf + f];
+  for (std::size_t m = top; m-- > 0;) {
+    const double* cm = c + m * nf;
+    for (std::size_t f = 0; f < nf; ++f) out[f] = out[f] * x + cm[f];
+  }
+  for (std::size_t f = 0; f < nf; ++f) out[f] *= scale;
+}
+
+}  // namespace
+
 // Per layer: tau = alpha(x) ds, d tau / d pwv and d tau / dT, by Horner's rule in x over the
 // [layer][power][freq] coefficient tables.
 WVR_VECTOR_CLONES
@@ -23,36 +43,48 @@ void evaluate_layer_polynomials(const double* __restrict alpha,
                                 double* __restrict tau,
                                 double* __restrict d_tau_d_pwv,
                                 double* __restrict d_tau_d_t) {
-  const std::size_t top = np - 1;
-  for (std::size_t i = 0; i < nl; ++i) {
-    const double* a = alpha + i * np * nf;
-    const double* da = d_alpha_dx + i * np * nf;
-    const double* dt = d_alpha_dt + i * np * nf;
-    double* out = tau + i * nf;
-    double* out_x = d_tau_d_pwv + i * nf;
-    double* out_t = d_tau_d_t + i * nf;
-    for (std::size_t f = 0; f < nf; ++f) {
-      out[f] = a[top * nf + f];
-      out_x[f] = 0.0;
-      out_t[f] = dt[top * nf + f];
-    }
-    for (std::size_t m = top; m-- > 0;) {
-      const double* am = a + m * nf;
-      const double* dam = da + m * nf;
-      const double* dtm = dt + m * nf;
+  if (d_alpha_dx != nullptr && d_alpha_dt != nullptr) {
+    // All three: one fused pass over the powers keeps the accumulators hot.
+    const std::size_t top = np - 1;
+    for (std::size_t i = 0; i < nl; ++i) {
+      const double* a = alpha + i * np * nf;
+      const double* da = d_alpha_dx + i * np * nf;
+      const double* dt = d_alpha_dt + i * np * nf;
+      double* out = tau + i * nf;
+      double* out_x = d_tau_d_pwv + i * nf;
+      double* out_t = d_tau_d_t + i * nf;
       for (std::size_t f = 0; f < nf; ++f) {
-        out[f] = out[f] * x + am[f];
-        out_x[f] = out_x[f] * x + dam[f];
-        out_t[f] = out_t[f] * x + dtm[f];
+        out[f] = a[top * nf + f];
+        out_x[f] = 0.0;
+        out_t[f] = dt[top * nf + f];
+      }
+      for (std::size_t m = top; m-- > 0;) {
+        const double* am = a + m * nf;
+        const double* dam = da + m * nf;
+        const double* dtm = dt + m * nf;
+        for (std::size_t f = 0; f < nf; ++f) {
+          out[f] = out[f] * x + am[f];
+          out_x[f] = out_x[f] * x + dam[f];
+          out_t[f] = out_t[f] * x + dtm[f];
+        }
+      }
+      const double ds = path_m[i];
+      const double ds_dx = ds * dx_dpwv;
+      for (std::size_t f = 0; f < nf; ++f) {
+        out[f] *= ds;
+        out_x[f] *= ds_dx;
+        out_t[f] *= ds;
       }
     }
+    return;
+  }
+  for (std::size_t i = 0; i < nl; ++i) {
     const double ds = path_m[i];
-    const double ds_dx = ds * dx_dpwv;
-    for (std::size_t f = 0; f < nf; ++f) {
-      out[f] *= ds;
-      out_x[f] *= ds_dx;
-      out_t[f] *= ds;
-    }
+    horner(alpha + i * np * nf, np, nf, x, ds, tau + i * nf);
+    // The derivative tables have one power fewer (the top coefficient is zero).
+    if (d_alpha_dx != nullptr)
+      horner(d_alpha_dx + i * np * nf, np - 1, nf, x, ds * dx_dpwv, d_tau_d_pwv + i * nf);
+    if (d_alpha_dt != nullptr) horner(d_alpha_dt + i * np * nf, np, nf, x, ds, d_tau_d_t + i * nf);
   }
 }
 

@@ -8,7 +8,7 @@ namespace wvr::detail {
 
 // Per layer i and frequency f: tau = alpha(x) ds_i, d tau / d pwv = alpha'(x) ds_i dx/dpwv and
 // d tau / dT = alpha_T(x) ds_i, by Horner's rule over [layer][power][freq] coefficient tables
-// of np = degree + 1 powers.
+// of np = degree + 1 powers. A null derivative table skips that derivative.
 void evaluate_layer_polynomials(const double* alpha,
                                 const double* d_alpha_dx,
                                 const double* d_alpha_dt,

@@ -283,8 +283,9 @@ FastModelStatus FastSkyModel::evaluate(const FastSkyState& state,
   for (std::size_t i = 0; i < nl; ++i) ws.path_m[i] = path_in_layer(i, invariant, inv_sin);
 
   detail::evaluate_layer_polynomials(
-      alpha_coeffs_.data(), d_alpha_dx_coeffs_.data(), d_alpha_dt_coeffs_.data(), ws.path_m.data(),
-      nl, np, nf, x, dx_dpwv, ws.tau.data(), ws.d_tau_d_pwv.data(), ws.d_tau_d_t.data());
+      alpha_coeffs_.data(), want_pwv ? d_alpha_dx_coeffs_.data() : nullptr,
+      want_t ? d_alpha_dt_coeffs_.data() : nullptr, ws.path_m.data(), nl, np, nf, x, dx_dpwv,
+      ws.tau.data(), ws.d_tau_d_pwv.data(), ws.d_tau_d_t.data());
   if (lwp > 0.0 || want_lwp) {
     detail::add_liquid_opacity(liquid_alpha_per_lwp_.data(), ws.path_m.data(), nl, nf, lwp,
                                ws.tau.data(), ws.d_tau_d_lwp.data());

@@ -267,7 +267,7 @@ RetrievalResult Retriever::fit(const RetrievalInput& input) {
   if (!(start >= 0.0 && start <= model_->options().max_pwv_mm)) {
     double best = std::numeric_limits<double>::infinity();
     start = 1.0;
-    for (double pwv = 0.05; pwv <= model_->options().max_pwv_mm; pwv *= 1.6) {
+    for (double pwv = 0.05; pwv <= model_->options().max_pwv_mm; pwv *= 2.0) {
       if (model_->evaluate(pwv, input.elevation_deg, m.probe_ws, m.probe_tb) !=
           FastModelStatus::kOk)
         continue;
