@@ -414,12 +414,18 @@ NightDiagnosis diagnose_night(const Night& night,
         break;
       }
     }
-    const WindowDiagnosis* source = before != nullptr ? before : after;
-    if (before != nullptr && after != nullptr && after->verdict != Verdict::kCorrected &&
-        after->verdict != Verdict::kQuietSky && after->verdict != Verdict::kRadiometerFault) {
+    // A neighbour judged only by its antenna faults says nothing about the sky: use the other.
+    auto sky_verdict = [](const WindowDiagnosis* n) {
+      return n != nullptr && n->verdict != Verdict::kRadiometerFault &&
+             n->verdict != Verdict::kCannotJudge;
+    };
+    const WindowDiagnosis* source =
+        sky_verdict(before) ? before : (sky_verdict(after) ? after : nullptr);
+    if (sky_verdict(before) && sky_verdict(after) && after->verdict != Verdict::kCorrected &&
+        after->verdict != Verdict::kQuietSky) {
       source = after;  // a problem starting in the next calibrator scan covers this target scan
     }
-    if (source == nullptr || source->verdict == Verdict::kRadiometerFault) continue;
+    if (source == nullptr) continue;
     w.verdict = source->verdict;
     w.inherited = true;
     w.reason = "inherited from the calibrator scan at " +
