@@ -8,19 +8,14 @@
 #include <functional>
 #include <vector>
 
+#include "gauss_legendre.hpp"
+
 namespace wvr {
 struct TurbulentLayer;
 struct ScreenGrid;
 }  // namespace wvr
 
 namespace wvr::detail::screen {
-
-// n-point Gauss-Legendre rule on [-1, 1].
-struct GaussLegendreRule {
-  std::vector<double> node;
-  std::vector<double> weight;
-};
-const GaussLegendreRule& gauss_legendre(int points);
 
 // Integral of f over [a, b] with the n-point Gauss-Legendre rule.
 double integrate_panel(const std::function<double(double)>& f, double a, double b, int points);

@@ -28,34 +28,6 @@ namespace wvr::detail::screen {
 namespace {
 
 constexpr double kPi = std::numbers::pi;
-constexpr int kMaxRulePoints = 32;
-
-GaussLegendreRule make_rule(int n) {
-  // Newton iteration on the Legendre polynomial P_n from the usual cosine initial guesses.
-  GaussLegendreRule rule;
-  rule.node.resize(static_cast<std::size_t>(n));
-  rule.weight.resize(static_cast<std::size_t>(n));
-  for (int i = 0; i < n; ++i) {
-    double x = std::cos(kPi * (i + 0.75) / (n + 0.5));
-    double derivative = 1.0;
-    for (int iteration = 0; iteration < 100; ++iteration) {
-      double p0 = 1.0;
-      double p1 = x;
-      for (int k = 2; k <= n; ++k) {
-        const double p2 = ((2.0 * k - 1.0) * x * p1 - (k - 1.0) * p0) / k;
-        p0 = p1;
-        p1 = p2;
-      }
-      derivative = n * (x * p1 - p0) / (x * x - 1.0);
-      const double step = p1 / derivative;
-      x -= step;
-      if (std::abs(step) < 1e-16) break;
-    }
-    rule.node[static_cast<std::size_t>(i)] = x;
-    rule.weight[static_cast<std::size_t>(i)] = 2.0 / ((1.0 - x * x) * derivative * derivative);
-  }
-  return rule;
-}
 
 // Composite Gauss-Legendre over the given panel edges.
 template <typename F>
@@ -128,17 +100,6 @@ double power_law_tail(double spectrum_at_k, double k) {
 }
 
 }  // namespace
-
-const GaussLegendreRule& gauss_legendre(int points) {
-  static const std::vector<GaussLegendreRule> rules = [] {
-    std::vector<GaussLegendreRule> all;
-    all.reserve(kMaxRulePoints + 1);
-    all.emplace_back();
-    for (int n = 1; n <= kMaxRulePoints; ++n) all.push_back(make_rule(n));
-    return all;
-  }();
-  return rules[static_cast<std::size_t>(std::clamp(points, 1, kMaxRulePoints))];
-}
 
 double integrate_panel(const std::function<double(double)>& f, double a, double b, int points) {
   return integrate_panels(f, std::vector<double>{a, b}, points);

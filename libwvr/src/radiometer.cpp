@@ -5,6 +5,7 @@
 #include <sstream>
 
 #include "config_text.hpp"
+#include "gauss_legendre.hpp"
 #include "wvr/error.hpp"
 
 namespace wvr {
@@ -22,31 +23,6 @@ std::vector<SkyBand> sky_bands(double lo_ghz, const RadiometerChannel& c) {
   if (c.sideband != Sideband::kUpper) bands.push_back({lo_ghz - hi_edge, lo_ghz - lo_edge});
   if (c.sideband != Sideband::kLower) bands.push_back({lo_ghz + lo_edge, lo_ghz + hi_edge});
   return bands;
-}
-
-// Gauss-Legendre nodes and weights on [-1, 1] by Newton iteration on P_n (Golub-Welsch would
-// also do; n is small).
-void gauss_legendre(int n, std::vector<double>& x, std::vector<double>& w) {
-  x.assign(static_cast<std::size_t>(n), 0.0);
-  w.assign(static_cast<std::size_t>(n), 0.0);
-  for (int i = 0; i < n; ++i) {
-    double z = std::cos(std::numbers::pi * (i + 0.75) / (n + 0.5));
-    double dp = 0.0;
-    for (int iter = 0; iter < 100; ++iter) {
-      double p0 = 1.0, p1 = z;
-      for (int k = 2; k <= n; ++k) {
-        const double p2 = ((2.0 * k - 1.0) * z * p1 - (k - 1.0) * p0) / k;
-        p0 = p1;
-        p1 = p2;
-      }
-      dp = n * (z * p1 - p0) / (z * z - 1.0);
-      const double step = p1 / dp;
-      z -= step;
-      if (std::abs(step) < 1e-15) break;
-    }
-    x[static_cast<std::size_t>(i)] = z;
-    w[static_cast<std::size_t>(i)] = 2.0 / ((1.0 - z * z) * dp * dp);
-  }
 }
 
 }  // namespace
@@ -101,8 +77,10 @@ void RadiometerConfig::validate() const {
 }
 
 std::vector<std::vector<QuadratureNode>> channel_quadrature(const RadiometerConfig& config) {
-  std::vector<double> x, w;
-  gauss_legendre(config.quadrature_points_per_sideband, x, w);
+  const detail::GaussLegendreRule& rule =
+      detail::gauss_legendre(config.quadrature_points_per_sideband);
+  const std::vector<double>& x = rule.node;
+  const std::vector<double>& w = rule.weight;
   std::vector<std::vector<QuadratureNode>> out;
   out.reserve(config.channels.size());
   for (const RadiometerChannel& c : config.channels) {

@@ -16,6 +16,7 @@
 #include <vector>
 
 #include "dispersion_detail.hpp"
+#include "gauss_legendre.hpp"
 #include "test_util.hpp"
 #include "wvr/constants.hpp"
 #include "wvr/error.hpp"
@@ -45,28 +46,6 @@ detail::WaterLineState water_line(const GasState& state, double f0_ghz) {
 
 // 10-point Gauss-Legendre nodes and weights on [-1, 1]: Newton iteration on the Legendre
 // polynomial P_10, weights 2 / ((1 - x^2) P_10'(x)^2).
-std::vector<std::pair<double, double>> gauss_legendre_10() {
-  constexpr int kOrder = 10;
-  std::vector<std::pair<double, double>> out;
-  for (int i = 1; i <= kOrder; ++i) {
-    double x = std::cos(std::numbers::pi * (i - 0.25) / (kOrder + 0.5));
-    double dp = 0.0;
-    for (int iter = 0; iter < 100; ++iter) {
-      double p0 = 1.0, p1 = x;
-      for (int n = 2; n <= kOrder; ++n) {
-        const double p2 = ((2.0 * n - 1.0) * x * p1 - (n - 1.0) * p0) / n;
-        p0 = p1;
-        p1 = p2;
-      }
-      dp = kOrder * (x * p1 - p0) / (x * x - 1.0);
-      const double step = p1 / dp;
-      x -= step;
-      if (std::abs(step) < 1e-16) break;
-    }
-    out.push_back({x, 2.0 / ((1.0 - x * x) * dp * dp)});
-  }
-  return out;
-}
 
 // Once-subtracted Kramers-Kronig relation for a causal response with N''(-f) = -N''(f):
 //   N'(f) - N'(0) = (2 f^2 / pi) PV int_0^inf N''(x) / (x (x^2 - f^2)) dx.
@@ -86,9 +65,10 @@ class KramersKronigTransform {
     for (std::size_t k = 0; k + 1 < edges.size(); ++k) {
       const double mid = 0.5 * (edges[k] + edges[k + 1]);
       const double half = 0.5 * (edges[k + 1] - edges[k]);
-      for (const auto& [x, w] : gauss_legendre_10()) {
-        x_.push_back(mid + half * x);
-        w_.push_back(half * w);
+      const detail::GaussLegendreRule& rule = detail::gauss_legendre(10);
+      for (std::size_t i = 0; i < rule.node.size(); ++i) {
+        x_.push_back(mid + half * rule.node[i]);
+        w_.push_back(half * rule.weight[i]);
       }
     }
     x_.push_back(kTopGhz);
