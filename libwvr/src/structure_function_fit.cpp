@@ -119,7 +119,7 @@ double BrokenPowerLawFit::evaluate_m2(double separation_m) const {
 std::string BrokenPowerLawFit::brief_report() const {
   std::ostringstream out;
   out.precision(4);
-  out << to_string(status) << ": slopes " << alpha_short << " +/- " << alpha_short_sigma << " / "
+  out << to_string(status) << (has_break ? ": slopes " : ": single power law, slope ") << alpha_short << " +/- " << alpha_short_sigma << " / "
       << alpha_long << " +/- " << alpha_long_sigma << ", break " << break_m << " +/- "
       << break_sigma_m << " m, A " << amplitude_m2 << " m^2";
   if (saturation_m2 > 0.0) out << ", saturation " << saturation_m2 << " m^2";
@@ -162,20 +162,30 @@ BrokenPowerLawFit fit_broken_power_law(std::span<const double> separation_m,
   }
   const bool fit_width = options.fit_transition_width && n >= 7;
   const std::size_t parameters = 4 + (fit_width ? 1 : 0) + (options.fit_saturation ? 1 : 0);
-  if (n < parameters + 1) {
-    // Single power law through the points, reported at the geometric mean separation.
-    const Line line = fit_line(log_d, log_v);
+  // Single power law through the points, reported at the geometric mean separation.
+  const Line line = fit_line(log_d, log_v);
+  const auto take_single_power_law = [&](DiagnosticStatus status, const std::string& why) {
     double mean_log_d = 0.0;
     for (double v : log_d) mean_log_d += v / static_cast<double>(n);
-    fit.status = DiagnosticStatus::kTooFewPoints;
-    fit.message = std::to_string(n) + " points: single power law fitted (broken model needs " +
-                  std::to_string(parameters + 1) + ")";
-    fit.alpha_short = fit.alpha_long = line.slope;
-    fit.alpha_short_sigma = fit.alpha_long_sigma = line.slope_sigma;
-    fit.break_m = std::exp(mean_log_d);
-    fit.amplitude_m2 = std::exp(line.c + line.slope * mean_log_d);
-    fit.rms_log_residual = line.rms;
-    return fit;
+    BrokenPowerLawFit single;
+    single.status = status;
+    single.message = why;
+    single.has_break = false;
+    single.points_used = n;
+    single.transition_width = options.transition_width;
+    single.alpha_short = single.alpha_long = line.slope;
+    single.alpha_short_sigma = single.alpha_long_sigma = line.slope_sigma;
+    single.break_m = std::exp(mean_log_d);
+    single.amplitude_m2 = std::exp(line.c + line.slope * mean_log_d);
+    single.amplitude_sigma_m2 = single.amplitude_m2 * line.c_sigma;
+    single.rms_log_residual = line.rms;
+    return single;
+  };
+  if (n < parameters + 1) {
+    return take_single_power_law(DiagnosticStatus::kTooFewPoints,
+                                 std::to_string(n) +
+                                     " points: single power law fitted (broken model needs " +
+                                     std::to_string(parameters + 1) + ")");
   }
 
   // Start: grid search over the break with a sharp join (linear least squares per break).
@@ -267,6 +277,22 @@ BrokenPowerLawFit fit_broken_power_law(std::span<const double> separation_m,
     fit.status = DiagnosticStatus::kSolverFailure;
     fit.message = summary.message;
     return fit;
+  }
+  // Keep the break only when it earns its extra parameters: Bayesian information criterion
+  // n ln(SSE / n) + k ln n (Schwarz 1978, Annals of Statistics 6, 461), broken model against
+  // the single power law. Points wholly inside one regime otherwise get a spurious break
+  // whose slopes trade off against each other.
+  if (!saturating) {
+    const double dn = static_cast<double>(n);
+    const double floor_sse = 1e-30;  // exact power laws: both SSEs vanish
+    const double bic_single =
+        dn * std::log(std::max(dn * line.rms * line.rms, floor_sse) / dn) + 2.0 * std::log(dn);
+    const double bic_broken = dn * std::log(std::max(2.0 * summary.final_cost, floor_sse) / dn) +
+                              static_cast<double>(parameters) * std::log(dn);
+    if (bic_single <= bic_broken) {
+      return take_single_power_law(DiagnosticStatus::kOk,
+                                   "a single power law describes the points as well (BIC)");
+    }
   }
 
   // Uncertainties: the covariance scaled by the residual variance (no per-point errors).

@@ -25,10 +25,19 @@
 //    over a width w in ln d; optionally saturating, D_sat (1 - exp(-D / D_sat)).
 //    For the slab (von Karman) spectrum of wvr/phase_screen.hpp the asymptotes are
 //    D ~ W d^(5/3) and D ~ W^2 d^(2/3); they meet at d = 0.343 W (closed form in
-//    slab_break_over_thickness()). The slab's transition is broad and asymmetric (the thick
-//    regime is approached only linearly in d / W), so a fit with a free transition width puts
-//    the break further out, at about 0.58 W (measured on the LayerSpectrum curve over
-//    W/100 .. 30 W, the same for W = 100 m .. 1 km).
+//    slab_break_over_thickness()). The slab's transition is broad and asymmetric: the thick
+//    slope falls short of 5/3 by ~0.4 (d / W)^(1/3) (the finite slab cuts off the z
+//    integral: D = a W d^(5/3) - b W^(2/3) d^2 + ...), so a fit with a free transition width
+//    puts the break further out, at about 0.58 W (measured on the LayerSpectrum curve over
+//    W/100 .. 30 W, the same for W = 100 m .. 1 km). The break is kept only when it lowers the
+//    Bayesian information criterion against a single power law.
+//    On one- to few-hour nights the km-scale points carry the sample variance of a few
+//    independent screen patches; the broken power law then often puts its break at a wiggle
+//    (slopes scattering by 0.3 and more between nights).
+// 2b. The slab model itself, D = D(W) g(d / W), fitted for the equivalent layer thickness W
+//    (fit_slab_thickness): one shape parameter instead of three, so it is far steadier (W
+//    within 10-20 % from six one-hour simulated nights). Its W is the "break length" the
+//    diagnosis reports; slopes are measured in each regime relative to it.
 // 3. Temporal structure function per antenna or per baseline path series vs lag (through
 //    wvr::temporal_structure_function).
 // 4. Wind under frozen flow: the lag tau_ab maximising the cross-correlation of two
@@ -41,9 +50,11 @@
 //   wvr::SpatialStructureResult sf = wvr::radiometer_structure_function(night, paths);
 //   wvr::StructureFunctionEstimate binned = wvr::bin_structure_function(sf);
 //   wvr::BrokenPowerLawFit fit = wvr::fit_broken_power_law(binned.separation, binned.value_m2);
+//   wvr::SlabThicknessFit slab = wvr::fit_slab_thickness(binned.separation, binned.value_m2);
 //   wvr::WindEstimate wind = wvr::estimate_wind(night, paths);
 
 #include <array>
+#include <cmath>
 #include <span>
 #include <string>
 #include <vector>
@@ -132,6 +143,9 @@ struct BrokenPowerLawFit {
   std::string message;
   double amplitude_m2 = 0.0;  // A: the asymptotes' value at the break
   double alpha_short = 0.0, alpha_long = 0.0;
+  // False when a single power law was kept (too few points, or the break did not lower the
+  // BIC): the slopes are then equal and break_m is only the reference separation of A.
+  bool has_break = true;
   double break_m = 0.0;
   double saturation_m2 = 0.0;  // 0 when not fitted
   double transition_width = 0.0;
@@ -151,7 +165,9 @@ struct BrokenPowerLawFit {
 // Fits D(separation) (points with non-finite or non-positive values are skipped). With fewer
 // points than the broken model needs (5, 6 with saturation) but at least 2, a single power
 // law is fitted (alpha_short = alpha_long, break at the geometric mean separation) and the
-// status is kTooFewPoints. Throws InvalidInput for bad options or mismatched sizes.
+// status is kTooFewPoints. Without saturation, the single power law is also kept (status kOk,
+// has_break false) when the broken model does not lower the Bayesian information criterion.
+// Throws InvalidInput for bad options or mismatched sizes.
 BrokenPowerLawFit fit_broken_power_law(std::span<const double> separation_m,
                                        std::span<const double> structure_m2,
                                        const BrokenPowerLawOptions& options = {});
@@ -162,6 +178,59 @@ BrokenPowerLawFit fit_broken_power_law(std::span<const double> separation_m,
 // = -2^(1-beta) Gamma(1 - beta/2) / Gamma(beta/2) (Gradshteyn & Ryzhik 6.561 type Mellin
 // transform of J0, from memory); about 0.343.
 double slab_break_over_thickness();
+
+// ---- Equivalent slab thickness ----
+
+// What the points say about the thickness W of the turbulent layer.
+enum class ThicknessConstraint {
+  kMeasured,  // the transition from 5/3 to 2/3 lies among the points
+  kAtLeast,   // every point is in the thick regime: W is at least thickness_m
+  kAtMost,    // every point is in the thin regime: W is at most thickness_m
+};
+const char* to_string(ThicknessConstraint constraint);
+
+// Power-law slope of D over the points of one regime (straight line in log-log).
+struct RegimeSlope {
+  bool measured = false;
+  double slope = std::nan("");
+  double slope_sigma = std::nan("");  // from the scatter of the points about the line
+  std::size_t points = 0;
+  std::string message;  // why it was not measured
+};
+
+// The slab model fitted to D(d): D = D(W) g(d / W), with g the shape of the slab (von Karman)
+// structure function of wvr/phase_screen.hpp for an outer scale far beyond the points. Unlike
+// the broken power law, whose break lies at about 0.58 W for this shape, W here IS the layer
+// thickness of a single-slab screen; for real skies it is the equivalent thickness.
+struct SlabThicknessFit {
+  DiagnosticStatus status = DiagnosticStatus::kNoData;
+  std::string message;
+  ThicknessConstraint constraint = ThicknessConstraint::kMeasured;
+  double thickness_m = 0.0;  // best W, or the limit when constraint is not kMeasured
+  // 1-sigma interval from the profile of the log residuals (Delta chi^2 = 1 with the per-point
+  // scatter estimated from the fit); an open side reaches the search limit (d_min / 100 or
+  // 100 d_max).
+  double thickness_low_m = 0.0, thickness_high_m = 0.0;
+  double path_m2_at_thickness = 0.0;  // D(W) (m^2)
+  std::size_t points_used = 0;
+  double rms_log_residual = 0.0;
+  // Slopes measured in each regime: points with d <= W / 5 (thick) and d >= 5 W (thin); all
+  // points on the side where W is only a limit. The slab's own local slope approaches 5/3
+  // slowly (1.42 at d = W / 10, 1.58 at W / 100) and 2/3 a little faster (0.78 at 5 W, 0.74 at
+  // 10 W, 0.70 at 30 W; LayerSpectrum), so these are what a single slab would give there.
+  RegimeSlope thick, thin;
+
+  bool ok() const { return status == DiagnosticStatus::kOk; }
+  double evaluate_m2(double separation_m) const;
+  std::string brief_report() const;
+};
+
+// Fits ln D in log-log (points with non-finite or non-positive values skipped). Needs three
+// points over a factor of two in separation (otherwise kNoData); a profile flat on both sides
+// gives kTooFewPoints. Throws InvalidInput for mismatched sizes. The outer scale is not
+// modelled: leave out points where D saturates.
+SlabThicknessFit fit_slab_thickness(std::span<const double> separation_m,
+                                    std::span<const double> structure_m2);
 
 // ---- Temporal structure function ----
 

@@ -1,0 +1,273 @@
+// Equivalent slab thickness from a measured structure function (wvr/structure_function.hpp).
+//
+// With the outer scale far away, the slab structure function has one shape in d / W:
+//   D(d) = A g(d / W),  g(x) = D_slab(x; W = 1, L0 -> inf) / D_slab(1; W = 1, L0 -> inf),
+// so A = D(W). g is tabulated once per process (ln g on a uniform ln x grid from the
+// LayerSpectrum quadrature) and continued by the exact asymptotes 5/3 (thick) and 2/3 (thin)
+// outside the table. For each trial W the best ln A is the mean log residual, so the fit is a
+// one-dimensional profile in ln W: a fine grid, then a parabola through the best grid point.
+
+#include <algorithm>
+#include <array>
+#include <cmath>
+#include <limits>
+#include <sstream>
+
+#include "wvr/error.hpp"
+#include "wvr/phase_screen.hpp"
+#include "wvr/structure_function.hpp"
+
+namespace wvr {
+namespace {
+
+class SlabShapeTable {
+ public:
+  // ln x from 1e-4 to 1e5: the thick regime is approached linearly in x, so at x = 1e-4 the
+  // local slope is 5/3 to ~1e-4; at 1e5 the thin slope is 2/3 to the same order.
+  static constexpr double kLogLo = -4.0 * 2.302585092994046;
+  static constexpr double kLogHi = 5.0 * 2.302585092994046;
+  static constexpr int kPerDecade = 16;
+  static constexpr int kPoints = 9 * kPerDecade + 1;
+  static constexpr double kStep = (kLogHi - kLogLo) / (kPoints - 1);
+
+  SlabShapeTable() {
+    TurbulentLayer unit;
+    unit.thickness_m = 1.0;
+    unit.outer_scale_m = 1e12;  // far beyond every x of the table
+    unit.reference_baseline_m = 1.0;
+    unit.path_rms_at_reference_m = 1.0;  // D(W) = 1, so A is D at d = W
+    const LayerSpectrum spectrum(unit);
+    for (int i = 0; i < kPoints; ++i) {
+      log_g_[static_cast<std::size_t>(i)] =
+          std::log(spectrum.structure_function_m2(std::exp(kLogLo + kStep * i)));
+    }
+  }
+
+  // ln g at ln x: cubic (Catmull-Rom) inside the table, the asymptotes outside.
+  double log_g(double log_x) const {
+    if (log_x <= kLogLo) return log_g_.front() + (5.0 / 3.0) * (log_x - kLogLo);
+    if (log_x >= kLogHi) return log_g_.back() + (2.0 / 3.0) * (log_x - kLogHi);
+    const double u = (log_x - kLogLo) / kStep;
+    const int i = std::min(static_cast<int>(u), kPoints - 2);
+    const double t = u - i;
+    const auto at = [this](int k) {
+      return log_g_[static_cast<std::size_t>(std::clamp(k, 0, kPoints - 1))];
+    };
+    const double p0 = at(i - 1), p1 = at(i), p2 = at(i + 1), p3 = at(i + 2);
+    return p1 + 0.5 * t *
+                    (p2 - p0 + t * (2.0 * p0 - 5.0 * p1 + 4.0 * p2 - p3 +
+                                    t * (3.0 * (p1 - p2) + p3 - p0)));
+  }
+
+ private:
+  std::array<double, kPoints> log_g_{};
+};
+
+const SlabShapeTable& shape_table() {
+  static const SlabShapeTable table;
+  return table;
+}
+
+struct Profile {
+  double sse = 0.0, log_a = 0.0;
+};
+
+Profile profile_at(double log_w, const std::vector<double>& log_d,
+                   const std::vector<double>& log_v) {
+  const SlabShapeTable& g = shape_table();
+  const double n = static_cast<double>(log_d.size());
+  std::vector<double> r(log_d.size());
+  double mean = 0.0;
+  for (std::size_t i = 0; i < log_d.size(); ++i) {
+    r[i] = log_v[i] - g.log_g(log_d[i] - log_w);
+    mean += r[i] / n;
+  }
+  Profile p;
+  p.log_a = mean;
+  for (double v : r) p.sse += (v - mean) * (v - mean);
+  return p;
+}
+
+// Straight line through (ln d, ln D) of the points selected: the power-law slope of one regime.
+RegimeSlope regime_slope(const std::vector<double>& log_d, const std::vector<double>& log_v,
+                         double log_lo, double log_hi) {
+  RegimeSlope r;
+  std::vector<double> x, y;
+  for (std::size_t i = 0; i < log_d.size(); ++i) {
+    if (log_d[i] >= log_lo && log_d[i] <= log_hi) {
+      x.push_back(log_d[i]);
+      y.push_back(log_v[i]);
+    }
+  }
+  r.points = x.size();
+  const double span = x.empty() ? 0.0
+                                : *std::max_element(x.begin(), x.end()) -
+                                      *std::min_element(x.begin(), x.end());
+  if (x.size() < 3 || span < std::log(1.5)) {
+    r.message = std::to_string(x.size()) + " points in this regime (needs >= 3 over >= 1.5x)";
+    return r;
+  }
+  const double n = static_cast<double>(x.size());
+  double mx = 0.0, my = 0.0;
+  for (std::size_t i = 0; i < x.size(); ++i) {
+    mx += x[i] / n;
+    my += y[i] / n;
+  }
+  double sxx = 0.0, sxy = 0.0;
+  for (std::size_t i = 0; i < x.size(); ++i) {
+    sxx += (x[i] - mx) * (x[i] - mx);
+    sxy += (x[i] - mx) * (y[i] - my);
+  }
+  r.slope = sxy / sxx;
+  double sse = 0.0;
+  for (std::size_t i = 0; i < x.size(); ++i) {
+    const double e = y[i] - my - r.slope * (x[i] - mx);
+    sse += e * e;
+  }
+  r.slope_sigma = std::sqrt(sse / (n - 2.0) / sxx);
+  r.measured = true;
+  return r;
+}
+
+}  // namespace
+
+const char* to_string(ThicknessConstraint constraint) {
+  switch (constraint) {
+    case ThicknessConstraint::kMeasured:
+      return "measured";
+    case ThicknessConstraint::kAtLeast:
+      return "at least";
+    case ThicknessConstraint::kAtMost:
+      return "at most";
+  }
+  return "unknown";
+}
+
+double SlabThicknessFit::evaluate_m2(double separation_m) const {
+  if (!(separation_m > 0.0) || !(thickness_m > 0.0) || !(path_m2_at_thickness > 0.0))
+    return std::nan("");
+  return path_m2_at_thickness *
+         std::exp(shape_table().log_g(std::log(separation_m / thickness_m)));
+}
+
+std::string SlabThicknessFit::brief_report() const {
+  std::ostringstream out;
+  out.precision(4);
+  out << to_string(status) << ": slab thickness " << to_string(constraint) << " "
+      << thickness_m << " m (1-sigma " << thickness_low_m << " .. " << thickness_high_m
+      << " m), D(W) " << path_m2_at_thickness << " m^2, " << points_used
+      << " points, rms ln residual " << rms_log_residual;
+  if (!message.empty()) out << " [" << message << "]";
+  for (const auto& [name, r] : {std::pair{"thick", &thick}, std::pair{"thin", &thin}}) {
+    out << "; " << name << " slope ";
+    if (r->measured) {
+      out << r->slope << " +/- " << r->slope_sigma << " (" << r->points << " points)";
+    } else {
+      out << "not measured: " << r->message;
+    }
+  }
+  return out.str();
+}
+
+SlabThicknessFit fit_slab_thickness(std::span<const double> separation_m,
+                                    std::span<const double> structure_m2) {
+  if (separation_m.size() != structure_m2.size()) {
+    throw InvalidInput("separation_m has " + std::to_string(separation_m.size()) +
+                       " values but structure_m2 has " + std::to_string(structure_m2.size()));
+  }
+  std::vector<double> log_d, log_v;
+  for (std::size_t i = 0; i < separation_m.size(); ++i) {
+    if (separation_m[i] > 0.0 && std::isfinite(separation_m[i]) && structure_m2[i] > 0.0 &&
+        std::isfinite(structure_m2[i])) {
+      log_d.push_back(std::log(separation_m[i]));
+      log_v.push_back(std::log(structure_m2[i]));
+    }
+  }
+  SlabThicknessFit fit;
+  const std::size_t n = log_d.size();
+  fit.points_used = n;
+  const double log_min = n ? *std::min_element(log_d.begin(), log_d.end()) : 0.0;
+  const double log_max = n ? *std::max_element(log_d.begin(), log_d.end()) : 0.0;
+  // Two parameters (ln A, ln W) and a residual variance need at least three points over a
+  // factor of two in separation.
+  if (n < 3 || log_max - log_min < std::log(2.0)) {
+    fit.status = DiagnosticStatus::kNoData;
+    fit.message = std::to_string(n) + " positive, finite points over a separation ratio of " +
+                  std::to_string(n ? std::exp(log_max - log_min) : 0.0) +
+                  " (needs >= 3 points over >= 2x)";
+    return fit;
+  }
+  // W searched from 1/100 of the shortest to 100 times the longest separation: beyond, the
+  // data sit wholly on one asymptote and say nothing more about W.
+  const double lo = log_min - std::log(100.0), hi = log_max + std::log(100.0);
+  constexpr int kGrid = 400;
+  const double step = (hi - lo) / kGrid;
+  std::vector<double> sse(kGrid + 1);
+  int best = 0;
+  for (int g = 0; g <= kGrid; ++g) {
+    sse[static_cast<std::size_t>(g)] = profile_at(lo + step * g, log_d, log_v).sse;
+    if (sse[static_cast<std::size_t>(g)] < sse[static_cast<std::size_t>(best)]) best = g;
+  }
+  double log_w = lo + step * best;
+  if (best > 0 && best < kGrid) {
+    // Vertex of the parabola through the best grid point and its neighbours.
+    const double s0 = sse[static_cast<std::size_t>(best - 1)], s1 = sse[static_cast<std::size_t>(best)],
+                 s2 = sse[static_cast<std::size_t>(best + 1)];
+    const double curvature = s0 - 2.0 * s1 + s2;
+    if (curvature > 0.0) log_w += 0.5 * step * (s0 - s2) / curvature;
+  }
+  const Profile p = profile_at(log_w, log_d, log_v);
+  fit.thickness_m = std::exp(log_w);
+  fit.path_m2_at_thickness = std::exp(p.log_a);
+  fit.rms_log_residual = std::sqrt(p.sse / static_cast<double>(n));
+  // 1-sigma interval: where the profile SSE rises by the residual variance per degree of
+  // freedom (Delta chi^2 = 1 with the per-point error estimated from the fit itself).
+  const double s2 = std::max(p.sse / static_cast<double>(n - 2), 1e-12);
+  const double limit = p.sse + s2;
+  int g_lo = best, g_hi = best;
+  while (g_lo > 0 && sse[static_cast<std::size_t>(g_lo)] <= limit) --g_lo;
+  while (g_hi < kGrid && sse[static_cast<std::size_t>(g_hi)] <= limit) ++g_hi;
+  const bool open_low = sse[static_cast<std::size_t>(g_lo)] <= limit;
+  const bool open_high = sse[static_cast<std::size_t>(g_hi)] <= limit;
+  // Interval ends interpolated linearly in the SSE between grid points.
+  const auto crossing = [&](int inside, int outside) {
+    const double s_in = sse[static_cast<std::size_t>(inside)];
+    const double s_out = sse[static_cast<std::size_t>(outside)];
+    const double f = s_out > s_in ? std::clamp((limit - s_in) / (s_out - s_in), 0.0, 1.0) : 1.0;
+    return lo + step * (inside + f * (outside - inside));
+  };
+  const double log_low = open_low ? lo : crossing(g_lo + 1, g_lo);
+  const double log_high = open_high ? hi : crossing(g_hi - 1, g_hi);
+  fit.thickness_low_m = std::exp(std::min(log_low, log_w));
+  fit.thickness_high_m = std::exp(std::max(log_high, log_w));
+  fit.status = DiagnosticStatus::kOk;
+  if (open_low && open_high) {
+    fit.status = DiagnosticStatus::kTooFewPoints;
+    fit.message = "the points do not constrain the thickness";
+  } else if (open_high) {
+    // Every baseline looks thick: only a lower limit (the interval's lower end).
+    fit.constraint = ThicknessConstraint::kAtLeast;
+    fit.thickness_m = fit.thickness_low_m;
+    fit.path_m2_at_thickness = std::exp(profile_at(std::log(fit.thickness_m), log_d, log_v).log_a);
+    fit.message = "every separation is in the thick (5/3) regime";
+  } else if (open_low) {
+    fit.constraint = ThicknessConstraint::kAtMost;
+    fit.thickness_m = fit.thickness_high_m;
+    fit.path_m2_at_thickness = std::exp(profile_at(std::log(fit.thickness_m), log_d, log_v).log_a);
+    fit.message = "every separation is in the thin (2/3) regime";
+  }
+  // Regime slopes: points at least kRegimeFactor inside each regime, or all of them when the
+  // thickness is only a limit on that side.
+  constexpr double kRegimeFactor = 5.0;
+  const double log_w_fit = std::log(fit.thickness_m);
+  const double inf = std::numeric_limits<double>::infinity();
+  const bool all_thick = fit.constraint == ThicknessConstraint::kAtLeast;
+  const bool all_thin = fit.constraint == ThicknessConstraint::kAtMost;
+  fit.thick = regime_slope(log_d, log_v, -inf,
+                           all_thick ? inf : log_w_fit - std::log(kRegimeFactor));
+  fit.thin = regime_slope(log_d, log_v, all_thin ? -inf : log_w_fit + std::log(kRegimeFactor),
+                          inf);
+  return fit;
+}
+
+}  // namespace wvr
