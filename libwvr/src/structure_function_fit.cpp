@@ -119,9 +119,10 @@ double BrokenPowerLawFit::evaluate_m2(double separation_m) const {
 std::string BrokenPowerLawFit::brief_report() const {
   std::ostringstream out;
   out.precision(4);
-  out << to_string(status) << (has_break ? ": slopes " : ": single power law, slope ") << alpha_short << " +/- " << alpha_short_sigma << " / "
-      << alpha_long << " +/- " << alpha_long_sigma << ", break " << break_m << " +/- "
-      << break_sigma_m << " m, A " << amplitude_m2 << " m^2";
+  out << to_string(status) << (has_break ? ": slopes " : ": single power law, slope ")
+      << alpha_short << " +/- " << alpha_short_sigma << " / " << alpha_long << " +/- "
+      << alpha_long_sigma << ", break " << break_m << " +/- " << break_sigma_m << " m, A "
+      << amplitude_m2 << " m^2";
   if (saturation_m2 > 0.0) out << ", saturation " << saturation_m2 << " m^2";
   out << ", " << points_used << " points, rms ln residual " << rms_log_residual;
   if (!message.empty()) out << " [" << message << "]";

@@ -55,8 +55,8 @@ class SlabShapeTable {
     };
     const double p0 = at(i - 1), p1 = at(i), p2 = at(i + 1), p3 = at(i + 2);
     return p1 + 0.5 * t *
-                    (p2 - p0 + t * (2.0 * p0 - 5.0 * p1 + 4.0 * p2 - p3 +
-                                    t * (3.0 * (p1 - p2) + p3 - p0)));
+                    (p2 - p0 +
+                     t * (2.0 * p0 - 5.0 * p1 + 4.0 * p2 - p3 + t * (3.0 * (p1 - p2) + p3 - p0)));
   }
 
  private:
@@ -72,7 +72,8 @@ struct Profile {
   double sse = 0.0, log_a = 0.0;
 };
 
-Profile profile_at(double log_w, const std::vector<double>& log_d,
+Profile profile_at(double log_w,
+                   const std::vector<double>& log_d,
                    const std::vector<double>& log_v) {
   const SlabShapeTable& g = shape_table();
   const double n = static_cast<double>(log_d.size());
@@ -89,8 +90,10 @@ Profile profile_at(double log_w, const std::vector<double>& log_d,
 }
 
 // Straight line through (ln d, ln D) of the points selected: the power-law slope of one regime.
-RegimeSlope regime_slope(const std::vector<double>& log_d, const std::vector<double>& log_v,
-                         double log_lo, double log_hi) {
+RegimeSlope regime_slope(const std::vector<double>& log_d,
+                         const std::vector<double>& log_v,
+                         double log_lo,
+                         double log_hi) {
   RegimeSlope r;
   std::vector<double> x, y;
   for (std::size_t i = 0; i < log_d.size(); ++i) {
@@ -100,9 +103,9 @@ RegimeSlope regime_slope(const std::vector<double>& log_d, const std::vector<dou
     }
   }
   r.points = x.size();
-  const double span = x.empty() ? 0.0
-                                : *std::max_element(x.begin(), x.end()) -
-                                      *std::min_element(x.begin(), x.end());
+  const double span =
+      x.empty() ? 0.0
+                : *std::max_element(x.begin(), x.end()) - *std::min_element(x.begin(), x.end());
   if (x.size() < 3 || span < std::log(1.5)) {
     r.message = std::to_string(x.size()) + " points in this regime (needs >= 3 over >= 1.5x)";
     return r;
@@ -146,17 +149,16 @@ const char* to_string(ThicknessConstraint constraint) {
 double SlabThicknessFit::evaluate_m2(double separation_m) const {
   if (!(separation_m > 0.0) || !(thickness_m > 0.0) || !(path_m2_at_thickness > 0.0))
     return std::nan("");
-  return path_m2_at_thickness *
-         std::exp(shape_table().log_g(std::log(separation_m / thickness_m)));
+  return path_m2_at_thickness * std::exp(shape_table().log_g(std::log(separation_m / thickness_m)));
 }
 
 std::string SlabThicknessFit::brief_report() const {
   std::ostringstream out;
   out.precision(4);
-  out << to_string(status) << ": slab thickness " << to_string(constraint) << " "
-      << thickness_m << " m (1-sigma " << thickness_low_m << " .. " << thickness_high_m
-      << " m), D(W) " << path_m2_at_thickness << " m^2, " << points_used
-      << " points, rms ln residual " << rms_log_residual;
+  out << to_string(status) << ": slab thickness " << to_string(constraint) << " " << thickness_m
+      << " m (1-sigma " << thickness_low_m << " .. " << thickness_high_m << " m), D(W) "
+      << path_m2_at_thickness << " m^2, " << points_used << " points, rms ln residual "
+      << rms_log_residual;
   if (!message.empty()) out << " [" << message << "]";
   for (const auto& [name, r] : {std::pair{"thick", &thick}, std::pair{"thin", &thin}}) {
     out << "; " << name << " slope ";
@@ -211,7 +213,8 @@ SlabThicknessFit fit_slab_thickness(std::span<const double> separation_m,
   double log_w = lo + step * best;
   if (best > 0 && best < kGrid) {
     // Vertex of the parabola through the best grid point and its neighbours.
-    const double s0 = sse[static_cast<std::size_t>(best - 1)], s1 = sse[static_cast<std::size_t>(best)],
+    const double s0 = sse[static_cast<std::size_t>(best - 1)],
+                 s1 = sse[static_cast<std::size_t>(best)],
                  s2 = sse[static_cast<std::size_t>(best + 1)];
     const double curvature = s0 - 2.0 * s1 + s2;
     if (curvature > 0.0) log_w += 0.5 * step * (s0 - s2) / curvature;
@@ -263,10 +266,9 @@ SlabThicknessFit fit_slab_thickness(std::span<const double> separation_m,
   const double inf = std::numeric_limits<double>::infinity();
   const bool all_thick = fit.constraint == ThicknessConstraint::kAtLeast;
   const bool all_thin = fit.constraint == ThicknessConstraint::kAtMost;
-  fit.thick = regime_slope(log_d, log_v, -inf,
-                           all_thick ? inf : log_w_fit - std::log(kRegimeFactor));
-  fit.thin = regime_slope(log_d, log_v, all_thin ? -inf : log_w_fit + std::log(kRegimeFactor),
-                          inf);
+  fit.thick =
+      regime_slope(log_d, log_v, -inf, all_thick ? inf : log_w_fit - std::log(kRegimeFactor));
+  fit.thin = regime_slope(log_d, log_v, all_thin ? -inf : log_w_fit + std::log(kRegimeFactor), inf);
   return fit;
 }
 

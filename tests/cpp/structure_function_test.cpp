@@ -128,8 +128,8 @@ TEST(StructureFunctionTheory, OneRegimeGivesOnlyALimitOnTheThickness) {
   EXPECT_EQ(thin_fit.constraint, ThicknessConstraint::kAtMost) << thin_fit.brief_report();
   EXPECT_LT(thin_fit.thickness_m, 20.0);
   EXPECT_NEAR(thin_fit.thin.slope, 2.0 / 3.0, 0.02);
-  std::cout << "thick only: " << thick_fit.brief_report() << "\nthin only: "
-            << thin_fit.brief_report() << "\n";
+  std::cout << "thick only: " << thick_fit.brief_report()
+            << "\nthin only: " << thin_fit.brief_report() << "\n";
   // The broken power law keeps a single law there (BIC), but not on a real break.
   const BrokenPowerLawFit single = fit_broken_power_law(d, thin);
   EXPECT_TRUE(single.ok());
