@@ -22,36 +22,51 @@ namespace {
 
 class SlabShapeTable {
  public:
-  // ln x from 1e-4 to 1e5: the thick regime is approached linearly in x, so at x = 1e-4 the
-  // local slope is 5/3 to ~1e-4; at 1e5 the thin slope is 2/3 to the same order.
+  // ln x from 1e-4 to 1e5: the thick regime is approached as (d / W)^(1/3), so at x = 1e-4
+  // the local slope is within 0.02 of 5/3; at 1e5 (no outer scale) within 0.01 of 2/3.
   static constexpr double kLogLo = -4.0 * 2.302585092994046;
   static constexpr double kLogHi = 5.0 * 2.302585092994046;
   static constexpr int kPerDecade = 16;
   static constexpr int kPoints = 9 * kPerDecade + 1;
   static constexpr double kStep = (kLogHi - kLogLo) / (kPoints - 1);
+  // Outer scales L0 / W = 10^0.5 .. 10^4 at 6 per decade, then one row without an outer scale
+  // (L0 = 1e12 W, beyond every x of the table).
+  static constexpr int kOuterRows = 22;
+  static constexpr int kRows = kOuterRows + 1;
 
   SlabShapeTable() {
-    TurbulentLayer unit;
-    unit.thickness_m = 1.0;
-    unit.outer_scale_m = 1e12;  // far beyond every x of the table
-    unit.reference_baseline_m = 1.0;
-    unit.path_rms_at_reference_m = 1.0;  // D(W) = 1, so A is D at d = W
-    const LayerSpectrum spectrum(unit);
-    for (int i = 0; i < kPoints; ++i) {
-      log_g_[static_cast<std::size_t>(i)] =
-          std::log(spectrum.structure_function_m2(std::exp(kLogLo + kStep * i)));
+    for (int r = 0; r < kRows; ++r) {
+      const double outer_over_w = r < kOuterRows ? std::pow(10.0, 0.5 + r / 6.0) : 1e12;
+      TurbulentLayer unit;
+      unit.thickness_m = 1.0;
+      unit.outer_scale_m = outer_over_w;
+      unit.reference_baseline_m = 1.0;
+      unit.path_rms_at_reference_m = 1.0;  // D(W) = 1, so A is D at d = W
+      const LayerSpectrum spectrum(unit);
+      Row& row = rows_[static_cast<std::size_t>(r)];
+      row.outer_over_w = r < kOuterRows ? outer_over_w : std::numeric_limits<double>::infinity();
+      for (int i = 0; i < kPoints; ++i) {
+        row.log_g[static_cast<std::size_t>(i)] =
+            std::log(spectrum.structure_function_m2(std::exp(kLogLo + kStep * i)));
+      }
+      row.end_slope = (row.log_g[kPoints - 1] - row.log_g[kPoints - 2]) / kStep;
     }
   }
 
-  // ln g at ln x: cubic (Catmull-Rom) inside the table, the asymptotes outside.
-  double log_g(double log_x) const {
-    if (log_x <= kLogLo) return log_g_.front() + (5.0 / 3.0) * (log_x - kLogLo);
-    if (log_x >= kLogHi) return log_g_.back() + (2.0 / 3.0) * (log_x - kLogHi);
+  static constexpr int no_outer_scale_row() { return kRows - 1; }
+  double outer_over_w(int row) const { return rows_[static_cast<std::size_t>(row)].outer_over_w; }
+
+  // ln g at ln x: cubic (Catmull-Rom) inside the table, power laws outside (5/3 below, the
+  // row's end slope above: 2/3 without an outer scale, ~0 when saturated).
+  double log_g(int row_index, double log_x) const {
+    const Row& row = rows_[static_cast<std::size_t>(row_index)];
+    if (log_x <= kLogLo) return row.log_g.front() + (5.0 / 3.0) * (log_x - kLogLo);
+    if (log_x >= kLogHi) return row.log_g.back() + row.end_slope * (log_x - kLogHi);
     const double u = (log_x - kLogLo) / kStep;
     const int i = std::min(static_cast<int>(u), kPoints - 2);
     const double t = u - i;
-    const auto at = [this](int k) {
-      return log_g_[static_cast<std::size_t>(std::clamp(k, 0, kPoints - 1))];
+    const auto at = [&row](int k) {
+      return row.log_g[static_cast<std::size_t>(std::clamp(k, 0, kPoints - 1))];
     };
     const double p0 = at(i - 1), p1 = at(i), p2 = at(i + 1), p3 = at(i + 2);
     return p1 + 0.5 * t *
@@ -60,7 +75,12 @@ class SlabShapeTable {
   }
 
  private:
-  std::array<double, kPoints> log_g_{};
+  struct Row {
+    double outer_over_w = 0.0;
+    double end_slope = 0.0;
+    std::array<double, kPoints> log_g{};
+  };
+  std::array<Row, kRows> rows_{};
 };
 
 const SlabShapeTable& shape_table() {
@@ -72,20 +92,22 @@ struct Profile {
   double sse = 0.0, log_a = 0.0;
 };
 
-Profile profile_at(double log_w,
+// Best ln A (the mean log residual) and the SSE for one shape row and thickness.
+Profile profile_at(int row,
+                   double log_w,
                    const std::vector<double>& log_d,
                    const std::vector<double>& log_v) {
   const SlabShapeTable& g = shape_table();
   const double n = static_cast<double>(log_d.size());
-  std::vector<double> r(log_d.size());
-  double mean = 0.0;
-  for (std::size_t i = 0; i < log_d.size(); ++i) {
-    r[i] = log_v[i] - g.log_g(log_d[i] - log_w);
-    mean += r[i] / n;
-  }
   Profile p;
-  p.log_a = mean;
-  for (double v : r) p.sse += (v - mean) * (v - mean);
+  double sum = 0.0, sum_sq = 0.0;
+  for (std::size_t i = 0; i < log_d.size(); ++i) {
+    const double r = log_v[i] - g.log_g(row, log_d[i] - log_w);
+    sum += r;
+    sum_sq += r * r;
+  }
+  p.log_a = sum / n;
+  p.sse = std::max(0.0, sum_sq - sum * sum / n);
   return p;
 }
 
@@ -147,18 +169,20 @@ const char* to_string(ThicknessConstraint constraint) {
 }
 
 double SlabThicknessFit::evaluate_m2(double separation_m) const {
-  if (!(separation_m > 0.0) || !(thickness_m > 0.0) || !(path_m2_at_thickness > 0.0))
+  if (!(separation_m > 0.0) || !(thickness_m > 0.0) || !(path_m2_at_thickness > 0.0) ||
+      shape_row < 0)
     return std::nan("");
-  return path_m2_at_thickness * std::exp(shape_table().log_g(std::log(separation_m / thickness_m)));
+  return path_m2_at_thickness *
+         std::exp(shape_table().log_g(shape_row, std::log(separation_m / thickness_m)));
 }
 
 std::string SlabThicknessFit::brief_report() const {
   std::ostringstream out;
   out.precision(4);
   out << to_string(status) << ": slab thickness " << to_string(constraint) << " " << thickness_m
-      << " m (1-sigma " << thickness_low_m << " .. " << thickness_high_m << " m), D(W) "
-      << path_m2_at_thickness << " m^2, " << points_used << " points, rms ln residual "
-      << rms_log_residual;
+      << " m (1-sigma " << thickness_low_m << " .. " << thickness_high_m << " m), outer scale "
+      << outer_scale_m << " m, D(W) " << path_m2_at_thickness << " m^2, " << points_used
+      << " points, rms ln residual " << rms_log_residual;
   if (!message.empty()) out << " [" << message << "]";
   for (const auto& [name, r] : {std::pair{"thick", &thick}, std::pair{"thin", &thin}}) {
     out << "; " << name << " slope ";
@@ -204,12 +228,48 @@ SlabThicknessFit fit_slab_thickness(std::span<const double> separation_m,
   const double lo = log_min - std::log(100.0), hi = log_max + std::log(100.0);
   constexpr int kGrid = 400;
   const double step = (hi - lo) / kGrid;
-  std::vector<double> sse(kGrid + 1);
-  int best = 0;
-  for (int g = 0; g <= kGrid; ++g) {
-    sse[static_cast<std::size_t>(g)] = profile_at(lo + step * g, log_d, log_v).sse;
-    if (sse[static_cast<std::size_t>(g)] < sse[static_cast<std::size_t>(best)]) best = g;
+  const SlabShapeTable& table = shape_table();
+  // Profile SSE over W, minimised over the outer-scale rows allowed.
+  struct ProfileCurve {
+    std::vector<double> sse;
+    std::vector<int> row;
+    int best = 0;
+  };
+  const auto profile_curve = [&](int first_row, int last_row) {
+    ProfileCurve c;
+    c.sse.assign(kGrid + 1, std::numeric_limits<double>::infinity());
+    c.row.assign(kGrid + 1, last_row);
+    for (int g = 0; g <= kGrid; ++g) {
+      const auto gi = static_cast<std::size_t>(g);
+      for (int r = first_row; r <= last_row; ++r) {
+        const double v = profile_at(r, lo + step * g, log_d, log_v).sse;
+        if (v < c.sse[gi]) {
+          c.sse[gi] = v;
+          c.row[gi] = r;
+        }
+      }
+      if (c.sse[gi] < c.sse[static_cast<std::size_t>(c.best)]) c.best = g;
+    }
+    return c;
+  };
+  const int unbounded = SlabShapeTable::no_outer_scale_row();
+  ProfileCurve curve = profile_curve(unbounded, unbounded);
+  // An outer scale (one more parameter) only when it lowers the Bayesian information
+  // criterion n ln(SSE / n) + k ln n (Schwarz 1978): saturation must be in the points.
+  if (n >= 5) {
+    ProfileCurve with_outer = profile_curve(0, unbounded);
+    const double dn = static_cast<double>(n);
+    const auto bic = [dn](double sse, double k) {
+      return dn * std::log(std::max(sse, 1e-30) / dn) + k * std::log(dn);
+    };
+    if (bic(with_outer.sse[static_cast<std::size_t>(with_outer.best)], 3.0) <
+        bic(curve.sse[static_cast<std::size_t>(curve.best)], 2.0)) {
+      curve = std::move(with_outer);
+    }
   }
+  const std::vector<double>& sse = curve.sse;
+  const int best = curve.best;
+  const int row = curve.row[static_cast<std::size_t>(best)];
   double log_w = lo + step * best;
   if (best > 0 && best < kGrid) {
     // Vertex of the parabola through the best grid point and its neighbours.
@@ -219,7 +279,8 @@ SlabThicknessFit fit_slab_thickness(std::span<const double> separation_m,
     const double curvature = s0 - 2.0 * s1 + s2;
     if (curvature > 0.0) log_w += 0.5 * step * (s0 - s2) / curvature;
   }
-  const Profile p = profile_at(log_w, log_d, log_v);
+  const Profile p = profile_at(row, log_w, log_d, log_v);
+  fit.shape_row = row;
   fit.thickness_m = std::exp(log_w);
   fit.path_m2_at_thickness = std::exp(p.log_a);
   fit.rms_log_residual = std::sqrt(p.sse / static_cast<double>(n));
@@ -251,12 +312,14 @@ SlabThicknessFit fit_slab_thickness(std::span<const double> separation_m,
     // Every baseline looks thick: only a lower limit (the interval's lower end).
     fit.constraint = ThicknessConstraint::kAtLeast;
     fit.thickness_m = fit.thickness_low_m;
-    fit.path_m2_at_thickness = std::exp(profile_at(std::log(fit.thickness_m), log_d, log_v).log_a);
+    fit.path_m2_at_thickness =
+        std::exp(profile_at(row, std::log(fit.thickness_m), log_d, log_v).log_a);
     fit.message = "every separation is in the thick (5/3) regime";
   } else if (open_low) {
     fit.constraint = ThicknessConstraint::kAtMost;
     fit.thickness_m = fit.thickness_high_m;
-    fit.path_m2_at_thickness = std::exp(profile_at(std::log(fit.thickness_m), log_d, log_v).log_a);
+    fit.path_m2_at_thickness =
+        std::exp(profile_at(row, std::log(fit.thickness_m), log_d, log_v).log_a);
     fit.message = "every separation is in the thin (2/3) regime";
   }
   // Regime slopes: points at least kRegimeFactor inside each regime, or all of them when the
@@ -268,7 +331,12 @@ SlabThicknessFit fit_slab_thickness(std::span<const double> separation_m,
   const bool all_thin = fit.constraint == ThicknessConstraint::kAtMost;
   fit.thick =
       regime_slope(log_d, log_v, -inf, all_thick ? inf : log_w_fit - std::log(kRegimeFactor));
-  fit.thin = regime_slope(log_d, log_v, all_thin ? -inf : log_w_fit + std::log(kRegimeFactor), inf);
+  fit.outer_scale_m = table.outer_over_w(row) * fit.thickness_m;
+  // The thin regime ends where the outer scale starts to bend D over.
+  const double thin_end =
+      std::isfinite(fit.outer_scale_m) ? std::log(fit.outer_scale_m / 20.0) : inf;
+  fit.thin =
+      regime_slope(log_d, log_v, all_thin ? -inf : log_w_fit + std::log(kRegimeFactor), thin_end);
   return fit;
 }
 

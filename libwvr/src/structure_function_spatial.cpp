@@ -60,6 +60,7 @@ double horizontal_distance_m(const Night& night, int a, int b) {
 // Sums of one baseline over its segments.
 struct Accumulator {
   double sum_sq_m2 = 0.0;
+  double noise_m2 = 0.0;  // white-noise variance to subtract
   std::size_t samples = 0, segments = 0;
 };
 
@@ -76,7 +77,8 @@ SpatialStructureResult finish(const Night& night,
     b.antenna_b = pair.second;
     b.baseline_m = horizontal_distance_m(night, pair.first, pair.second);
     // Each segment's mean costs one degree of freedom.
-    b.structure_m2 = acc.sum_sq_m2 / static_cast<double>(acc.samples - acc.segments);
+    b.structure_m2 = acc.sum_sq_m2 / static_cast<double>(acc.samples - acc.segments) - acc.noise_m2;
+    b.noise_m2 = acc.noise_m2;
     b.samples = acc.samples;
     b.segments = acc.segments;
     result.baselines.push_back(b);
@@ -180,6 +182,23 @@ SpatialStructureResult radiometer_structure_function(const Night& night,
                        " path_mm values do not match the night's " +
                        std::to_string(night.antenna_count()) + " antennas");
   }
+  const std::vector<double>& noise_mm = options.antenna_path_noise_mm;
+  if (!noise_mm.empty()) {
+    if (noise_mm.size() != na) {
+      throw InvalidInput("antenna_path_noise_mm has " + std::to_string(noise_mm.size()) +
+                         " values for " + std::to_string(na) + " antennas");
+    }
+    for (std::size_t a = 0; a < na; ++a) {
+      if (noise_mm[a] < 0.0)
+        throw InvalidInput(
+            describe_value("antenna_path_noise_mm[" + std::to_string(a) + "]", noise_mm[a]) +
+            " must be >= 0 mm");
+    }
+  }
+  const auto noise_variance_m2 = [&](std::size_t a) {
+    const double s = noise_mm.empty() || !std::isfinite(noise_mm[a]) ? 0.0 : noise_mm[a] * 1e-3;
+    return s * s;
+  };
   if (na < 2) {
     SpatialStructureResult r;
     r.message = "fewer than two antennas: no baselines";
@@ -231,10 +250,29 @@ SpatialStructureResult radiometer_structure_function(const Night& night,
         acc.samples += count[w];
         acc.segments += 1;
       }
+      acc.noise_m2 = noise_variance_m2(a) + noise_variance_m2(b);
       if (acc.segments > 0) sums[{static_cast<int>(a), static_cast<int>(b)}] = acc;
     }
   }
   return finish(night, sums, skipped, "radiometer samples");
+}
+
+std::vector<double> antenna_path_noise_mm(const NightRetrieval& retrieval) {
+  const std::size_t na = retrieval.antennas, nw = retrieval.windows;
+  std::vector<double> out(na, std::nan(""));
+  if (retrieval.path_noise_mm.size() != na * nw) return out;
+  for (std::size_t a = 0; a < na; ++a) {
+    double sum_sq = 0.0;
+    std::size_t n = 0;
+    for (std::size_t w = 0; w < nw; ++w) {
+      const double s = retrieval.path_noise_mm[a * nw + w];
+      if (!std::isfinite(s)) continue;
+      sum_sq += s * s;
+      ++n;
+    }
+    if (n > 0) out[a] = std::sqrt(sum_sq / static_cast<double>(n));
+  }
+  return out;
 }
 
 StructureFunctionEstimate bin_structure_function(const SpatialStructureResult& result,

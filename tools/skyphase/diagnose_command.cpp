@@ -28,6 +28,7 @@ nlohmann::ordered_json fit_json(const wvr::BrokenPowerLawFit& f,
   nlohmann::ordered_json j;
   j["source"] = source;
   j["status"] = f.ok() ? "ok" : f.message;
+  j["model"] = f.has_break ? "broken power law" : "single power law";
   j["slope_short"] = number(f.alpha_short);
   j["slope_short_sigma"] = number(f.alpha_short_sigma);
   j["slope_long"] = number(f.alpha_long);
@@ -58,7 +59,32 @@ struct FittedStructure {
   nlohmann::ordered_json json;
 };
 
-FittedStructure fitted_structure(const wvr::SpatialStructureResult& r, const std::string& source) {
+nlohmann::ordered_json regime_json(const wvr::RegimeSlope& r) {
+  if (!r.measured) return {{"status", "not measured: " + r.message}};
+  return {{"slope", number(r.slope)}, {"slope_sigma", number(r.slope_sigma)}, {"points", r.points}};
+}
+
+// The equivalent slab thickness: the physical break length of the structure function.
+nlohmann::ordered_json slab_json(const wvr::SlabThicknessFit& f) {
+  nlohmann::ordered_json j;
+  j["status"] = f.ok() ? "ok" : f.message;
+  if (f.status == wvr::DiagnosticStatus::kNoData) return j;
+  j["constraint"] = wvr::to_string(f.constraint);
+  j["thickness_m"] = number(f.thickness_m);
+  j["thickness_low_m"] = number(f.thickness_low_m);
+  j["thickness_high_m"] = number(f.thickness_high_m);
+  j["path_m2_at_thickness"] = number(f.path_m2_at_thickness);
+  // null: no saturation among the points (the fit kept no outer scale).
+  j["outer_scale_m"] = number(f.outer_scale_m);
+  j["thick_regime"] = regime_json(f.thick);
+  j["thin_regime"] = regime_json(f.thin);
+  if (f.ok() && !f.message.empty()) j["note"] = f.message;
+  return j;
+}
+
+FittedStructure fitted_structure(const wvr::SpatialStructureResult& r,
+                                 const std::string& source,
+                                 bool with_slab) {
   FittedStructure out;
   if (!r.ok()) {
     out.json = {{"source", source}, {"status", r.message}};
@@ -68,6 +94,13 @@ FittedStructure fitted_structure(const wvr::SpatialStructureResult& r, const std
   out.fit = wvr::fit_broken_power_law(binned.separation, binned.value_m2);
   out.ok = out.fit.ok();
   out.json = fit_json(out.fit, binned, source);
+  if (with_slab) {
+    double noise_m2 = 0.0;
+    for (const wvr::BaselineStructure& b : r.baselines) noise_m2 += b.noise_m2;
+    out.json["noise_subtracted_m2_mean"] =
+        number(noise_m2 / static_cast<double>(r.baselines.size()));
+    out.json["slab"] = slab_json(wvr::fit_slab_thickness(binned.separation, binned.value_m2));
+  }
   return out;
 }
 
@@ -161,20 +194,8 @@ DiagnosedNight diagnose_and_write(const CommonOptions& o) {
                      {"spike_fraction", t.spike_fraction},
                      {"fault_chi2_ratio", t.fault_chi2_ratio},
                      {"fault_residual_ratio", t.fault_residual_ratio}};
-  // Structure functions: the radiometer's wet-path one over the whole night (full spatial
-  // structure), and the calibrator phases' before and after correction (within-scan scatter).
-  const FittedStructure radiometer = fitted_structure(
-      wvr::radiometer_structure_function(p.night, p.paths), "radiometer wet path, whole night");
-  const FittedStructure before = fitted_structure(
-      wvr::calibrator_structure_function(p.night, p.night.calibrator_phases.phase_rad),
-      "calibrator phases before correction");
-  const FittedStructure after =
-      fitted_structure(wvr::calibrator_structure_function(p.night, metrics.corrected_phase_rad),
-                       "calibrator phases after correction");
-  j["structure_function"] = {
-      {"radiometer", radiometer.json}, {"before", before.json}, {"after", after.json}};
-  // Wind from the radiometer paths, leaving out cloudy scans (liquid read as vapour moves every
-  // antenna at once) and antennas flagged as faulty.
+  // Radiometer paths for the structure function and the wind, leaving out cloudy scans (liquid
+  // read as vapour moves every antenna at once) and antennas flagged as faulty.
   wvr::AntennaPaths clean = p.paths;
   const std::size_t nt = clean.time_s.size();
   for (const wvr::WindowDiagnosis& w : diagnosis.windows) {
@@ -186,6 +207,25 @@ DiagnosedNight diagnose_and_write(const CommonOptions& o) {
       }
     }
   }
+  // Structure functions: the radiometer's wet-path one over the whole night (full spatial
+  // structure), and the calibrator phases' before and after correction (within-scan scatter).
+  // The radiometer one has the retrieval's white path noise taken out and carries the slab fit
+  // (the calibrator ones are capped by the scan length, so a thickness would mean nothing).
+  wvr::SpatialStructureOptions radiometer_options;
+  if (p.retrieval.antennas == p.night.antenna_count())
+    radiometer_options.antenna_path_noise_mm = wvr::antenna_path_noise_mm(p.retrieval);
+  const FittedStructure radiometer = fitted_structure(
+      wvr::radiometer_structure_function(p.night, clean, radiometer_options),
+      "radiometer wet path, whole night, radiometer noise subtracted, cloud and faults left out",
+      true);
+  const FittedStructure before = fitted_structure(
+      wvr::calibrator_structure_function(p.night, p.night.calibrator_phases.phase_rad),
+      "calibrator phases before correction", false);
+  const FittedStructure after =
+      fitted_structure(wvr::calibrator_structure_function(p.night, metrics.corrected_phase_rad),
+                       "calibrator phases after correction", false);
+  j["structure_function"] = {
+      {"radiometer", radiometer.json}, {"before", before.json}, {"after", after.json}};
   const wvr::WindEstimate wind = wvr::estimate_wind(p.night, clean);
   j["wind_speed_m_s"] = wind.ok() ? number(wind.speed_m_s) : nullptr;
   j["wind_direction_deg"] = wind.ok() ? number(wind.direction_to_deg) : nullptr;

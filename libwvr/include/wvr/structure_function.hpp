@@ -55,12 +55,14 @@
 
 #include <array>
 #include <cmath>
+#include <limits>
 #include <span>
 #include <string>
 #include <vector>
 
 #include "wvr/calibration.hpp"
 #include "wvr/night.hpp"
+#include "wvr/night_retrieval.hpp"
 #include "wvr/phase_screen.hpp"
 
 namespace wvr {
@@ -83,6 +85,10 @@ struct SpatialStructureOptions {
   double window_s = 0.0;
   // Minimum samples of a scan or window for it to count (its mean would be too noisy below).
   std::size_t min_samples = 10;
+  // Radiometer paths: white path noise of each antenna (rms per sample, mm), e.g. from
+  // antenna_path_noise_mm(). Its share of Var(L_b - L_a), sigma_a^2 + sigma_b^2, is
+  // subtracted from each baseline (and reported in noise_m2); empty = nothing subtracted.
+  std::vector<double> antenna_path_noise_mm;
 
   void validate() const;  // throws InvalidInput
 };
@@ -91,7 +97,8 @@ struct SpatialStructureOptions {
 struct BaselineStructure {
   int antenna_a = 0, antenna_b = 0;
   double baseline_m = 0.0;    // horizontal antenna separation (m)
-  double structure_m2 = 0.0;  // pooled variance of the baseline path (m^2)
+  double structure_m2 = 0.0;  // pooled variance of the baseline path (m^2), less noise_m2
+  double noise_m2 = 0.0;      // white-noise variance subtracted (0 when none was given)
   std::size_t samples = 0;    // samples pooled
   std::size_t segments = 0;   // scans or windows pooled
 };
@@ -115,11 +122,17 @@ SpatialStructureResult calibrator_structure_function(const Night& night,
                                                      std::span<const double> phase_rad,
                                                      const SpatialStructureOptions& options = {});
 
-// From radiometer paths over every antenna pair. Throws InvalidInput for bad options or paths
-// whose shape does not match the night's antennas.
+// From radiometer paths over every antenna pair. Throws InvalidInput for bad options, paths
+// whose shape does not match the night's antennas, or an antenna_path_noise_mm of the wrong
+// length or with negative values.
 SpatialStructureResult radiometer_structure_function(const Night& night,
                                                      const AntennaPaths& paths,
                                                      const SpatialStructureOptions& options = {});
+
+// White path noise per antenna (mm rms per sample) from a night retrieval: the root mean
+// square of path_noise_mm over the antenna's finite windows (NaN when it has none, which
+// radiometer_structure_function treats as 0).
+std::vector<double> antenna_path_noise_mm(const NightRetrieval& retrieval);
 
 // Baselines averaged in logarithmic bins (bins_per_decade > 0): separation is the geometric
 // mean baseline of a bin, value_m2 the mean D, pair_count the number of baselines. Empty bins
@@ -198,9 +211,9 @@ struct RegimeSlope {
   std::string message;  // why it was not measured
 };
 
-// The slab model fitted to D(d): D = D(W) g(d / W), with g the shape of the slab (von Karman)
-// structure function of wvr/phase_screen.hpp for an outer scale far beyond the points. Unlike
-// the broken power law, whose break lies at about 0.58 W for this shape, W here IS the layer
+// The slab model fitted to D(d): D = D(W) g(d / W, L0 / W), with g the shape of the slab
+// (von Karman) structure function of wvr/phase_screen.hpp (tabulated once per process, ~0.4 s).
+// Unlike the broken power law, whose break lies at about 0.58 W for this shape, W here IS the layer
 // thickness of a single-slab screen; for real skies it is the equivalent thickness.
 struct SlabThicknessFit {
   DiagnosticStatus status = DiagnosticStatus::kNoData;
@@ -212,6 +225,10 @@ struct SlabThicknessFit {
   // 100 d_max).
   double thickness_low_m = 0.0, thickness_high_m = 0.0;
   double path_m2_at_thickness = 0.0;  // D(W) (m^2)
+  // von Karman outer scale of the best shape (m): L0 / W is chosen among 10^0.5 .. 10^4
+  // (6 per decade) when that lowers the BIC, otherwise +inf (no saturation in the points).
+  double outer_scale_m = std::numeric_limits<double>::infinity();
+  int shape_row = -1;  // internal: which tabulated shape evaluate_m2 uses
   std::size_t points_used = 0;
   double rms_log_residual = 0.0;
   // Slopes measured in each regime: points with d <= W / 5 (thick) and d >= 5 W (thin); all
@@ -227,8 +244,7 @@ struct SlabThicknessFit {
 
 // Fits ln D in log-log (points with non-finite or non-positive values skipped). Needs three
 // points over a factor of two in separation (otherwise kNoData); a profile flat on both sides
-// gives kTooFewPoints. Throws InvalidInput for mismatched sizes. The outer scale is not
-// modelled: leave out points where D saturates.
+// gives kTooFewPoints. Throws InvalidInput for mismatched sizes.
 SlabThicknessFit fit_slab_thickness(std::span<const double> separation_m,
                                     std::span<const double> structure_m2);
 
