@@ -1,11 +1,12 @@
 // Equivalent slab thickness from a measured structure function (wvr/structure_function.hpp).
 //
-// With the outer scale far away, the slab structure function has one shape in d / W:
-//   D(d) = A g(d / W),  g(x) = D_slab(x; W = 1, L0 -> inf) / D_slab(1; W = 1, L0 -> inf),
+// The slab (von Karman) structure function has one shape in d / W for each L0 / W:
+//   D(d) = A g(d / W; L0 / W),  g(x; l) = D_slab(x; W = 1, L0 = l) / D_slab(1; W = 1, L0 = l),
 // so A = D(W). g is tabulated once per process (ln g on a uniform ln x grid from the
-// LayerSpectrum quadrature) and continued by the exact asymptotes 5/3 (thick) and 2/3 (thin)
-// outside the table. For each trial W the best ln A is the mean log residual, so the fit is a
-// one-dimensional profile in ln W: a fine grid, then a parabola through the best grid point.
+// LayerSpectrum quadrature, one row per tabulated L0 / W plus one without an outer scale) and
+// continued by power laws outside the table. For each trial W and row the best ln A is the
+// mean log residual, so the fit is a profile in ln W (minimised over the rows allowed): a fine
+// grid, then a parabola through the best grid point.
 
 #include <algorithm>
 #include <array>
