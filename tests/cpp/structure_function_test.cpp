@@ -435,6 +435,29 @@ TEST(StructureFunctionNight, CalibratorStructureIsInPathUnitsAndCappedByTheScan)
   }
 }
 
+TEST(StructureFunctionNight, JackknifeGivesTheNightsOwnSpread) {
+  AntennaPaths paths;
+  const Night night = wind_night(8.0, 3.0, 33, &paths);
+  const NightSlabThickness slab = night_slab_thickness(night, paths);
+  ASSERT_EQ(slab.segment_thickness_m.size(), 4u) << slab.brief_report();
+  ASSERT_TRUE(std::isfinite(slab.log_thickness_sigma)) << slab.brief_report();
+  EXPECT_GT(slab.log_thickness_sigma, 0.0);
+  EXPECT_LT(slab.jackknife_low_m, slab.fit.thickness_m);
+  EXPECT_GT(slab.jackknife_high_m, slab.fit.thickness_m);
+  // The jackknife reproduces the spread of the refits by construction.
+  double mean = 0.0, spread = 0.0;
+  for (double w : slab.segment_thickness_m) mean += std::log(w) / 4.0;
+  for (double w : slab.segment_thickness_m) spread += std::pow(std::log(w) - mean, 2);
+  EXPECT_NEAR(slab.log_thickness_sigma, std::sqrt(spread * 3.0 / 4.0), 1e-12);
+  std::cout << slab.brief_report() << "\n";
+  EXPECT_THROW(night_slab_thickness(night, paths, {}, 5.0, 1), InvalidInput);
+  AntennaPaths nan_paths = paths;
+  std::fill(nan_paths.path_mm.begin(), nan_paths.path_mm.end(), std::nan(""));
+  const NightSlabThickness none = night_slab_thickness(night, nan_paths);
+  EXPECT_EQ(none.fit.status, DiagnosticStatus::kNoData);
+  EXPECT_TRUE(none.segment_thickness_m.empty());
+}
+
 TEST(StructureFunctionNight, BadInputGivesAStatusOrThrows) {
   AntennaPaths paths;
   const Night night = wind_night(8.0, 3.0, 32, &paths);

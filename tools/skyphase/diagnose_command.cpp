@@ -65,7 +65,8 @@ nlohmann::ordered_json regime_json(const wvr::RegimeSlope& r) {
 }
 
 // The equivalent slab thickness: the physical break length of the structure function.
-nlohmann::ordered_json slab_json(const wvr::SlabThicknessFit& f) {
+nlohmann::ordered_json slab_json(const wvr::NightSlabThickness& night_fit) {
+  const wvr::SlabThicknessFit& f = night_fit.fit;
   nlohmann::ordered_json j;
   j["status"] = f.ok() ? "ok" : f.message;
   if (f.status == wvr::DiagnosticStatus::kNoData) return j;
@@ -73,6 +74,10 @@ nlohmann::ordered_json slab_json(const wvr::SlabThicknessFit& f) {
   j["thickness_m"] = number(f.thickness_m);
   j["thickness_low_m"] = number(f.thickness_low_m);
   j["thickness_high_m"] = number(f.thickness_high_m);
+  // The interval above only reflects the points' scatter; this one the night's own sample
+  // variance (jackknife over time segments), still a lower bound on the real error.
+  j["thickness_jackknife_low_m"] = number(night_fit.jackknife_low_m);
+  j["thickness_jackknife_high_m"] = number(night_fit.jackknife_high_m);
   j["path_m2_at_thickness"] = number(f.path_m2_at_thickness);
   // null: no saturation among the points (the fit kept no outer scale).
   j["outer_scale_m"] = number(f.outer_scale_m);
@@ -82,9 +87,7 @@ nlohmann::ordered_json slab_json(const wvr::SlabThicknessFit& f) {
   return j;
 }
 
-FittedStructure fitted_structure(const wvr::SpatialStructureResult& r,
-                                 const std::string& source,
-                                 bool with_slab) {
+FittedStructure fitted_structure(const wvr::SpatialStructureResult& r, const std::string& source) {
   FittedStructure out;
   if (!r.ok()) {
     out.json = {{"source", source}, {"status", r.message}};
@@ -94,13 +97,6 @@ FittedStructure fitted_structure(const wvr::SpatialStructureResult& r,
   out.fit = wvr::fit_broken_power_law(binned.separation, binned.value_m2);
   out.ok = out.fit.ok();
   out.json = fit_json(out.fit, binned, source);
-  if (with_slab) {
-    double noise_m2 = 0.0;
-    for (const wvr::BaselineStructure& b : r.baselines) noise_m2 += b.noise_m2;
-    out.json["noise_subtracted_m2_mean"] =
-        number(noise_m2 / static_cast<double>(r.baselines.size()));
-    out.json["slab"] = slab_json(wvr::fit_slab_thickness(binned.separation, binned.value_m2));
-  }
   return out;
 }
 
@@ -214,16 +210,25 @@ DiagnosedNight diagnose_and_write(const CommonOptions& o) {
   wvr::SpatialStructureOptions radiometer_options;
   if (p.retrieval.antennas == p.night.antenna_count())
     radiometer_options.antenna_path_noise_mm = wvr::antenna_path_noise_mm(p.retrieval);
-  const FittedStructure radiometer = fitted_structure(
-      wvr::radiometer_structure_function(p.night, clean, radiometer_options),
-      "radiometer wet path, whole night, radiometer noise subtracted, cloud and faults left out",
-      true);
+  const wvr::SpatialStructureResult radiometer_sf =
+      wvr::radiometer_structure_function(p.night, clean, radiometer_options);
+  FittedStructure radiometer = fitted_structure(
+      radiometer_sf,
+      "radiometer wet path, whole night, radiometer noise subtracted, cloud and faults left out");
+  if (radiometer_sf.ok()) {
+    double noise_m2 = 0.0;
+    for (const wvr::BaselineStructure& b : radiometer_sf.baselines) noise_m2 += b.noise_m2;
+    radiometer.json["noise_subtracted_m2_mean"] =
+        number(noise_m2 / static_cast<double>(radiometer_sf.baselines.size()));
+    radiometer.json["slab"] =
+        slab_json(wvr::night_slab_thickness(p.night, clean, radiometer_options));
+  }
   const FittedStructure before = fitted_structure(
       wvr::calibrator_structure_function(p.night, p.night.calibrator_phases.phase_rad),
-      "calibrator phases before correction", false);
+      "calibrator phases before correction");
   const FittedStructure after =
       fitted_structure(wvr::calibrator_structure_function(p.night, metrics.corrected_phase_rad),
-                       "calibrator phases after correction", false);
+                       "calibrator phases after correction");
   j["structure_function"] = {
       {"radiometer", radiometer.json}, {"before", before.json}, {"after", after.json}};
   const wvr::WindEstimate wind = wvr::estimate_wind(p.night, clean);
