@@ -295,6 +295,50 @@ TemporalStructureResult temporal_path_structure(const AntennaPaths& paths,
                                                 std::span<const double> lag_s,
                                                 std::span<const std::array<int, 2>> pairs = {});
 
+// ---- Calibrator phases in time, mapped onto the flow ----
+//
+// What fast switching needs is the antenna-based residual after a time lag tau, i.e. the
+// structure function at the flow separation v tau (Taylor). On a baseline much longer than
+// v tau the two antennas' changes are independent, so
+//   D_antenna(v tau) = <(phi_ab(t + tau) - phi_ab(t))^2> / 2   (in path units).
+// Unlike calibrator_structure_function, this needs no per-scan offset: the differences are
+// taken within one scan. The white thermal noise adds a constant 2 sigma^2 / 2 at every lag
+// (kept: it is part of what switching leaves behind). Separations reach v x half a scan.
+
+struct CalibratorTemporalOptions {
+  std::vector<double> lag_s;  // empty: 1, 2, 3, 5, 8, ... samples up to half the longest scan
+  // Baselines shorter than this x v tau are not used at lag tau (correlated antennas).
+  double min_baseline_over_flow = 2.0;
+  std::size_t min_pairs = 20;  // lags with fewer sample pairs are dropped
+  // Lags whose rms phase difference exceeds this (rad) are dropped: the wrapped differences
+  // would understate D (uncorrected phases at long lags). At 1 rad rms a Gaussian difference
+  // passes +/- pi with probability 0.2 %.
+  double max_rms_phase_rad = 1.0;
+
+  void validate() const;  // throws InvalidInput
+};
+
+struct CalibratorTemporalResult {
+  DiagnosticStatus status = DiagnosticStatus::kNoData;
+  std::string message;
+  double speed_m_s = 0.0;
+  std::vector<double> lag_s;
+  StructureFunctionEstimate estimate;  // separation = v tau (m), value = D_antenna (m^2)
+  std::size_t baselines_used = 0;
+
+  bool ok() const { return status == DiagnosticStatus::kOk; }
+  std::string brief_report() const;
+};
+
+// phase_rad: one value per calibrator row (observed, or CorrectionMetrics::corrected_phase_rad).
+// Throws InvalidInput for bad options, a speed outside [1e-3, 1e3] m/s, or a phase_rad of the
+// wrong length; a night without usable calibrator data gives kNoData with the reason.
+CalibratorTemporalResult calibrator_temporal_structure(
+    const Night& night,
+    std::span<const double> phase_rad,
+    double speed_m_s,
+    const CalibratorTemporalOptions& options = {});
+
 // ---- Wind ----
 
 struct WindOptions {
