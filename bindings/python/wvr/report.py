@@ -439,7 +439,7 @@ def _figure_structure(summary):
             order = np.argsort(s)
             axes.loglog(s[order], fitted[order], "-", color=colour, label=label_fit)
     _plain_log_ticks(axes)
-    axes.set_xlabel("baseline (m)")
+    axes.set_xlabel("baseline (m); wind x lag for the by-lag sets")
     axes.set_ylabel("D (m^2 of path)")
     axes.set_title(title)
     axes.legend(fontsize=8)
