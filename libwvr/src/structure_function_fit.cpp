@@ -296,6 +296,15 @@ BrokenPowerLawFit fit_broken_power_law(std::span<const double> separation_m,
     }
   }
 
+  // A slope held at its bound describes nothing physical: say so.
+  for (const auto& [name, alpha] :
+       {std::pair{"alpha_short", alpha_s}, std::pair{"alpha_long", alpha_l}}) {
+    if (alpha <= -0.5 + 1e-6 || alpha >= 2.5 - 1e-6) {
+      fit.message += std::string(fit.message.empty() ? "" : "; ") + name +
+                     " stopped at its bound " +
+                     (alpha < 0.0 ? "-0.5 (the points fall or saturate there)" : "2.5");
+    }
+  }
   // Uncertainties: the covariance scaled by the residual variance (no per-point errors).
   std::vector<const double*> blocks = {&log_a, &alpha_s, &alpha_l, &log_break};
   if (saturating) blocks.push_back(&log_sat);
@@ -319,7 +328,8 @@ BrokenPowerLawFit fit_broken_power_law(std::span<const double> separation_m,
     fit.break_sigma_m = fit.break_m * sigma(&log_break);
     if (saturating) fit.saturation_sigma_m2 = fit.saturation_m2 * sigma(&log_sat);
   } else {
-    fit.message = "uncertainties not available (no spare degrees of freedom or singular fit)";
+    fit.message += std::string(fit.message.empty() ? "" : "; ") +
+                   "uncertainties not available (no spare degrees of freedom or singular fit)";
   }
   return fit;
 }

@@ -25,6 +25,7 @@ nlohmann::ordered_json fit_json(const wvr::BrokenPowerLawFit& f,
   nlohmann::ordered_json j;
   j["source"] = source;
   j["status"] = f.ok() ? "ok" : f.message;
+  if (f.ok() && !f.message.empty()) j["note"] = f.message;
   j["model"] = f.has_break ? "broken power law" : "single power law";
   j["slope_short"] = json_number(f.alpha_short);
   j["slope_short_sigma"] = json_number(f.alpha_short_sigma);
@@ -257,7 +258,7 @@ nlohmann::ordered_json structure_wind_and_advice(const Prepared& p,
     fitted->ok = fitted->fit.ok();
     fitted->json = fit_json(fitted->fit, r.estimate, source, "flow_separation_m");
     fitted->json["lag_s"] = r.lag_s;
-    if (!r.message.empty()) fitted->json["note"] = r.message;
+    if (!r.message.empty()) fitted->json["lags_note"] = r.message;
   }
   j["structure_function"] = {{"radiometer", radiometer.json},
                              {"before", before.json},
