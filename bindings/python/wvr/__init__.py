@@ -26,6 +26,13 @@ Nights (night files, the simulator and the retrieval)::
     retrieval = wvr.retrieve_night(night, scenario.site)
     print(retrieval.summary()["pwv_median_mm"])
     wvr.add_result_group("night.h5", "night-retrieved.h5", retrieval.to_result_group(night))
+
+Phase correction::
+
+    scale = wvr.solve_scaling(night, retrieval, scenario.site)
+    corrected = wvr.correct_night(night, retrieval, scenario.site,
+                                  antenna_scale=scale["antenna_scale"])
+    corrected["phase_correction_rad"]             # [antenna, time], added to the antenna phase
 """
 
 import collections.abc as _collections_abc
@@ -55,6 +62,7 @@ from wvr._core import (
     absorption_model_name,
     add_result_group,
     bevis_wet_delay_per_pwv,
+    correct_night,
     cloud_liquid_absorption_m2_per_kg,
     cloud_liquid_specific_attenuation,
     describe_retrieval_flags,
@@ -68,6 +76,7 @@ from wvr._core import (
     planck_brightness_k,
     profile_from_site,
     profile_from_sounding,
+    radiometer_paths,
     read_night,
     read_sounding_csv,
     retrieve_night,
@@ -75,6 +84,7 @@ from wvr._core import (
     saastamoinen_zenith_hydrostatic_delay_m,
     saturation_vapour_pressure_hpa,
     simulate_night,
+    solve_scaling,
     summarize_night,
     us_standard_atmosphere_1976,
     vapour_pressure_hpa,
@@ -163,6 +173,7 @@ __all__ = [
     "bevis_wet_delay_per_pwv",
     "cloud_liquid_absorption_m2_per_kg",
     "cloud_liquid_specific_attenuation",
+    "correct_night",
     "describe_retrieval_flags",
     "format_night_summary",
     "load_scenario",
@@ -174,6 +185,7 @@ __all__ = [
     "planck_brightness_k",
     "profile_from_site",
     "profile_from_sounding",
+    "radiometer_paths",
     "read_night",
     "read_sounding_csv",
     "retrieve_night",
@@ -181,6 +193,7 @@ __all__ = [
     "saastamoinen_zenith_hydrostatic_delay_m",
     "saturation_vapour_pressure_hpa",
     "simulate_night",
+    "solve_scaling",
     "summarize_night",
     "us_standard_atmosphere_1976",
     "vapour_pressure_hpa",

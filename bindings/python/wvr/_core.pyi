@@ -856,3 +856,30 @@ def retrieve_night(
     fit_temperature_offset: bool = False,
     threads: int = 0,  # 0 = all cores
 ) -> NightRetrieval: ...  # releases the GIL
+
+class RadiometerPaths(TypedDict):
+    time_s: FloatArray  # [T]
+    path_mm: FloatArray  # [A, T], NaN where unusable
+    flags: UInt8Array  # [A, T], 0 = usable
+
+def radiometer_paths(night: Night, retrieval: NightRetrieval) -> RadiometerPaths: ...
+
+def solve_scaling(
+    night: Night,
+    retrieval: NightRetrieval,
+    site: SiteConfig,
+    *,
+    per_antenna_scale: bool = False,
+    antenna_scale_prior_sigma: float = 0.1,
+    segment_s: float = 0.0,  # s; > 0: one scale per segment
+    reference_antenna: int = 0,
+) -> Dict[str, Any]: ...  # scale, scale_sigma, antenna_scale [A], ..., report
+
+def correct_night(
+    night: Night,
+    retrieval: NightRetrieval,
+    site: SiteConfig,
+    *,
+    antenna_scale: Union[None, float, Sequence[float], FloatArray] = None,
+    obs_freq_ghz: Optional[float] = None,  # GHz; default: the night's scans'
+) -> Dict[str, Any]: ...  # phase_correction_rad [A, T] (added to the phase), path_mm, flags, metrics
