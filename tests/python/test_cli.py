@@ -122,11 +122,12 @@ def test_unreadable_files_are_reported(tmp_path):
     assert result.returncode == 2 and "level 2" in result.stderr
 
 
-def small_demo_scenario(tmp_path):
-    """The demo scenario shortened to 15 minutes (its faults stay on antennas 11 and 27)."""
+def small_demo_scenario(tmp_path, duration_s=900.0):
+    """The demo scenario shortened to 15 minutes (its faults stay on antennas 11 and 27; the
+    spikes of antenna 11 start at 1200 s)."""
     with open(os.path.join(TESTDATA, "demo-scenario.toml")) as f:
         text = f.read()
-    text = text.replace("duration_s = 7200.0", "duration_s = 900.0").replace("antenna_count = 40", "antenna_count = 30")
+    text = text.replace("duration_s = 7200.0", f"duration_s = {duration_s}").replace("antenna_count = 40", "antenna_count = 30")
     data = os.path.abspath(TESTDATA) + "/"
     text = text.replace('site_file = "', 'site_file = "' + data).replace('radiometer_file = "', 'radiometer_file = "' + data)
     path = tmp_path / "scenario.toml"
@@ -156,3 +157,27 @@ def test_the_whole_chain_and_the_report(tmp_path):
     assert "<img" in html and "data-json" in html
     assert json.loads((report_dir / "summary.json").read_text())["windows"]
     assert night.read_bytes() == before  # inputs are never modified
+
+
+def test_diagnosis_thresholds_come_from_a_file(tmp_path):
+    night = tmp_path / "night.h5"
+    run("simulate", str(small_demo_scenario(tmp_path, duration_s=1500.0)), "-o", str(night))
+    thresholds = tmp_path / "thresholds.toml"
+    # Nothing counts as a fault: no window may name an antenna any more.
+    thresholds.write_text("fault_unusable_fraction = 1.0\nspike_fraction = 1.0\n"
+                          "fault_chi2_ratio = 1e6\nfault_residual_ratio = 1e6\n"
+                          "stuck_noise_fraction = 0.0\n")
+    default = json.loads(run("diagnose", str(night), "-o", str(tmp_path / "a.h5"), "--site", SITE,
+                             "--format", "json").stdout)
+    relaxed = json.loads(run("diagnose", str(night), "-o", str(tmp_path / "b.h5"), "--site", SITE,
+                             "--thresholds", str(thresholds), "--format", "json").stdout)
+    assert default["thresholds_source"] == "defaults"
+    assert relaxed["thresholds_source"] == str(thresholds)
+    assert relaxed["thresholds"]["fault_chi2_ratio"] == 1e6
+    assert relaxed["thresholds"]["cloud_chi2_per_dof"] == default["thresholds"]["cloud_chi2_per_dof"]
+    assert any(w["antennas"] for w in default["windows"])  # antenna 11's spikes
+    assert not any(w["antennas"] for w in relaxed["windows"])
+    thresholds.write_text("cloud_chi2 = 3\n")
+    result = run("diagnose", str(night), "-o", str(tmp_path / "c.h5"), "--site", SITE, "--thresholds",
+                 str(thresholds), check=False)
+    assert result.returncode == 2 and "unknown threshold 'cloud_chi2'" in result.stderr

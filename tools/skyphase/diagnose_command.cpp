@@ -43,8 +43,11 @@ DiagnosedNight diagnose_and_write(const CommonOptions& o) {
                                        p.phase_per_path(freq)),
         metrics));
   }
+  const wvr::DiagnosisThresholds thresholds =
+      o.thresholds_file.empty() ? wvr::DiagnosisThresholds{}
+                                : wvr::load_diagnosis_thresholds(o.thresholds_file);
   const wvr::NightDiagnosis diagnosis =
-      wvr::diagnose_night(p.night, p.retrieval, p.paths, metrics, p.phase_per_path);
+      wvr::diagnose_night(p.night, p.retrieval, p.paths, metrics, p.phase_per_path, thresholds);
   p.new_groups.push_back(wvr::diagnosis_result_group(diagnosis));
   wvr::NightWriteOptions write;
   write.overwrite_output = o.overwrite;
@@ -92,19 +95,11 @@ DiagnosedNight diagnose_and_write(const CommonOptions& o) {
                   {"coherence_before", json_number(metrics.coherence_before)},
                   {"coherence_after", json_number(metrics.coherence_after)}};
   j["windows"] = windows;
-  const wvr::DiagnosisThresholds& t = diagnosis.thresholds;
-  j["thresholds"] = {{"cloud_chi2_per_dof", t.cloud_chi2_per_dof},
-                     {"cloud_antenna_fraction", t.cloud_antenna_fraction},
-                     {"quiet_floor_ratio", t.quiet_floor_ratio},
-                     {"dry_floor_ratio", t.dry_floor_ratio},
-                     {"scale_min_correlation", t.scale_min_correlation},
-                     {"scale_tolerance", t.scale_tolerance},
-                     {"fault_unusable_fraction", t.fault_unusable_fraction},
-                     {"stuck_noise_fraction", t.stuck_noise_fraction},
-                     {"spike_chi2_per_dof", t.spike_chi2_per_dof},
-                     {"spike_fraction", t.spike_fraction},
-                     {"fault_chi2_ratio", t.fault_chi2_ratio},
-                     {"fault_residual_ratio", t.fault_residual_ratio}};
+  nlohmann::ordered_json thresholds_json;
+  for (const wvr::DiagnosisThresholdField& f : wvr::diagnosis_threshold_fields())
+    thresholds_json[f.name] = diagnosis.thresholds.*(f.member);
+  j["thresholds"] = thresholds_json;
+  j["thresholds_source"] = o.thresholds_file.empty() ? "defaults" : o.thresholds_file;
   const nlohmann::ordered_json structure = structure_wind_and_advice(p, diagnosis, metrics, o);
   for (const auto& [key, value] : structure.items()) j[key] = value;
   j["notes"] = diagnosis.notes;
@@ -141,15 +136,7 @@ void add_diagnose_command(CLI::App& app) {
       "diagnose",
       "Judge each scan: corrected, quiet sky, dry turbulence, cloud, radiometer fault, scale off");
   add_common(*cmd, *options);
-  cmd->add_option("--advice-layer-height-m", options->advice_layer_height_m,
-                  "Turbulent layer height for fast-switching advice (m)")
-      ->capture_default_str();
-  cmd->add_option("--advice-separation-deg", options->advice_separation_deg,
-                  "Calibrator-target separation for the advice (deg)")
-      ->capture_default_str();
-  cmd->add_option("--advice-target-rms-deg", options->advice_target_rms_deg,
-                  "Residual phase rms the advice aims at (deg)")
-      ->capture_default_str();
+  add_diagnosis_options(*cmd, *options);
   cmd->callback([options] {
     const DiagnosedNight d = diagnose_and_write(*options);
     if (options->format == Format::kJson) {

@@ -21,6 +21,21 @@ void add_common(CLI::App& cmd, CommonOptions& o) {
   add_format_option(cmd, o.format);
 }
 
+void add_diagnosis_options(CLI::App& cmd, CommonOptions& o) {
+  cmd.add_option("--thresholds", o.thresholds_file,
+                 "Diagnosis thresholds file (TOML: name = value; defaults for names left out)")
+      ->check(CLI::ExistingFile);
+  cmd.add_option("--advice-layer-height-m", o.advice_layer_height_m,
+                 "Turbulent layer height for fast-switching advice (m)")
+      ->capture_default_str();
+  cmd.add_option("--advice-separation-deg", o.advice_separation_deg,
+                 "Calibrator-target separation for the advice (deg)")
+      ->capture_default_str();
+  cmd.add_option("--advice-target-rms-deg", o.advice_target_rms_deg,
+                 "Residual phase rms the advice aims at (deg)")
+      ->capture_default_str();
+}
+
 Prepared prepare(const CommonOptions& o) {
   Prepared p;
   p.night = wvr::read_night(o.night_file);

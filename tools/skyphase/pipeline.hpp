@@ -27,6 +27,8 @@ struct CommonOptions {
   double advice_layer_height_m = 1000.0;
   double advice_separation_deg = 2.0;
   double advice_target_rms_deg = 30.0;
+  // Diagnosis thresholds file (TOML, name = value); empty = the defaults.
+  std::string thresholds_file;
 };
 
 // Registers night, -o, --site, --window-s, --overwrite and --format.
@@ -41,6 +43,9 @@ struct Prepared {
   std::function<double(double)> phase_per_path;
   wvr::AntennaPaths paths;
 };
+
+// Registers --thresholds and the fast-switching advice options (diagnose and report).
+void add_diagnosis_options(CLI::App& cmd, CommonOptions& o);
 
 Prepared prepare(const CommonOptions& o);
 

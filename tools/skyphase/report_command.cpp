@@ -92,6 +92,7 @@ void add_report_command(CLI::App& app) {
   cmd->add_option("--window-s", options->common.window_s,
                   "Coefficient window (s) when the night has no retrieval yet")
       ->capture_default_str();
+  add_diagnosis_options(*cmd, options->common);
   cmd->callback([options] { run_report(*options); });
 }
 

@@ -29,6 +29,8 @@
 // left out of the array statistics.
 
 #include <cstdint>
+#include <filesystem>
+#include <span>
 #include <string>
 #include <vector>
 
@@ -75,6 +77,21 @@ struct DiagnosisThresholds {
 
   void validate() const;  // throws InvalidInput
 };
+
+// Name, member and meaning of every threshold (for files, JSON and help texts).
+struct DiagnosisThresholdField {
+  const char* name;
+  double DiagnosisThresholds::*member;
+  const char* meaning;
+};
+std::span<const DiagnosisThresholdField> diagnosis_threshold_fields();
+
+// Thresholds from a TOML file of `name = value` lines (any subset of the names above; the
+// rest keep their defaults). Throws InvalidInput naming the file and the key for unknown keys,
+// non-numbers and values outside validate()'s ranges.
+DiagnosisThresholds parse_diagnosis_thresholds(const std::string& toml_text,
+                                               const std::string& source_name);
+DiagnosisThresholds load_diagnosis_thresholds(const std::filesystem::path& path);
 
 struct WindowDiagnosis {
   double start_s = 0.0, stop_s = 0.0;
