@@ -151,6 +151,20 @@ def test_the_whole_chain_and_the_report(tmp_path):
     assert diagnosis["windows"] and all("verdict" in w and "start_s" in w and "stop_s" in w for w in diagnosis["windows"])
     for key in ("structure_function", "wind_speed_m_s", "wind_direction_deg"):
         assert key in diagnosis, key
+    sf = diagnosis["structure_function"]
+    assert set(sf) >= {"radiometer", "radiometer_by_time", "before", "after", "before_by_lag",
+                       "after_by_lag"}
+    assert sf["radiometer"]["slab"]["thickness_m"] > 0
+    by_time = sf["radiometer_by_time"]
+    assert by_time["status"] == "ok" and len(by_time["baselines"]) == 3
+    lengths = [b["length_m"] for b in by_time["baselines"]]
+    assert lengths == sorted(lengths)
+    for b in by_time["baselines"]:
+        assert len(b["path_structure_m2"]) == len(by_time["lag_s"])
+        # D grows with lag over the first decade (frozen flow over the baseline).
+        assert b["path_structure_m2"][3] > b["path_structure_m2"][0]
+    assert sf["after_by_lag"]["status"] == "ok"
+    assert diagnosis["fast_switching"]["corrected_structure"].startswith("corrected calibrator")
     report_dir = tmp_path / "report"
     run("report", str(night), "-o", str(report_dir), "--site", SITE)
     html = (report_dir / "index.html").read_text()

@@ -1,5 +1,6 @@
 // skyphase diagnose: structure functions, wind and fast-switching advice for the JSON summary.
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <limits>
 #include <span>
@@ -98,6 +99,49 @@ FittedStructure fitted_structure(const wvr::SpatialStructureResult& r, const std
   out.ok = out.fit.ok();
   out.json = fit_json(out.fit, binned, source, "baseline_m");
   return out;
+}
+
+// Temporal structure function of the radiometer path difference of three baselines (the
+// shortest, the median and the longest) at lags from 1 s to 1000 s.
+nlohmann::ordered_json temporal_json(const wvr::Night& night,
+                                     const wvr::AntennaPaths& paths,
+                                     const wvr::SpatialStructureResult& spatial) {
+  const std::string source = "radiometer path difference L_b - L_a against time lag";
+  if (!spatial.ok() || paths.time_s.size() < 4) {
+    return {{"source", source}, {"status", "not available: no usable baselines"}};
+  }
+  const std::vector<wvr::BaselineStructure>& b = spatial.baselines;  // sorted by length
+  std::vector<std::array<int, 2>> pairs;
+  for (std::size_t k : {std::size_t{0}, b.size() / 2, b.size() - 1}) {
+    const std::array<int, 2> pair = {b[k].antenna_a, b[k].antenna_b};
+    if (pairs.empty() || pairs.back() != pair) pairs.push_back(pair);
+  }
+  const double span_s = paths.time_s.back() - paths.time_s.front();
+  std::vector<double> lags;
+  for (double lag : {1.0, 2.0, 5.0, 10.0, 20.0, 50.0, 100.0, 200.0, 500.0, 1000.0})
+    if (lag < 0.5 * span_s) lags.push_back(lag);
+  wvr::TemporalStructureResult r;
+  try {
+    r = wvr::temporal_path_structure(paths, lags, pairs);
+  } catch (const wvr::InvalidInput& e) {  // a cadence coarser than the shortest lags
+    return {{"source", source}, {"status", std::string("not available: ") + e.what()}};
+  }
+  if (!r.ok()) return {{"source", source}, {"status", r.message}};
+  nlohmann::ordered_json list = nlohmann::ordered_json::array();
+  for (std::size_t i = 0; i < r.series.size(); ++i) {
+    const auto [a, c] = r.series[i];
+    const auto& pa = night.array.position_enu_m[static_cast<std::size_t>(a)];
+    const auto& pc = night.array.position_enu_m[static_cast<std::size_t>(c)];
+    nlohmann::ordered_json values = nlohmann::ordered_json::array();
+    for (double v : r.estimates[i].value_m2) values.push_back(json_number(v));
+    list.push_back({{"antenna_a", night.array.antenna_names[static_cast<std::size_t>(a)]},
+                    {"antenna_b", night.array.antenna_names[static_cast<std::size_t>(c)]},
+                    {"length_m", std::hypot(pc[0] - pa[0], pc[1] - pa[1])},
+                    {"path_structure_m2", values}});
+  }
+  nlohmann::ordered_json lag_list = nlohmann::ordered_json::array();
+  for (double v : r.estimates.front().separation) lag_list.push_back(v);
+  return {{"source", source}, {"status", "ok"}, {"lag_s", lag_list}, {"baselines", list}};
 }
 
 // Holdaway advice. Uncorrected: the radiometer's (wet) structure function plus the corrected
@@ -261,6 +305,7 @@ nlohmann::ordered_json structure_wind_and_advice(const Prepared& p,
     if (!r.message.empty()) fitted->json["lags_note"] = r.message;
   }
   j["structure_function"] = {{"radiometer", radiometer.json},
+                             {"radiometer_by_time", temporal_json(p.night, clean, radiometer_sf)},
                              {"before", before.json},
                              {"after", after.json},
                              {"before_by_lag", before_by_lag.json},
