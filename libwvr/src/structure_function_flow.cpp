@@ -100,6 +100,80 @@ double correlation_at(const std::vector<double>& a, const std::vector<double>& b
   return saa > 0.0 && sbb > 0.0 ? sab / std::sqrt(saa * sbb) : std::nan("");
 }
 
+// Means of consecutive blocks of `factor` samples (NaN for a block without finite samples).
+std::vector<double> block_means(const std::vector<double>& x, std::size_t factor) {
+  std::vector<double> out(x.size() / factor, std::nan(""));
+  for (std::size_t i = 0; i < out.size(); ++i) {
+    double sum = 0.0;
+    std::size_t n = 0;
+    for (std::size_t k = i * factor; k < (i + 1) * factor; ++k) {
+      if (std::isnan(x[k])) continue;
+      sum += x[k];
+      ++n;
+    }
+    if (n > 0) out[i] = sum / static_cast<double>(n);
+  }
+  return out;
+}
+
+struct PeakLag {
+  double lag_samples = 0.0;  // with parabolic refinement
+  double correlation = std::nan("");
+  bool at_edge = false;  // the peak sits on the edge of the search range
+};
+
+// Lag (in samples of a) maximising the correlation of a(t) and b(t + lag) over |lag| <= k_max:
+// a search on the block means (factor samples each), then at full resolution within two
+// blocks of the coarse peak, then a parabola through the peak and its neighbours.
+PeakLag find_peak_lag(const std::vector<double>& a,
+                      const std::vector<double>& b,
+                      const std::vector<double>& coarse_a,
+                      const std::vector<double>& coarse_b,
+                      std::size_t factor,
+                      long k_max) {
+  const long f = static_cast<long>(factor);
+  long lo = -k_max, hi = k_max;
+  if (f > 1) {
+    const long coarse_max = (k_max + f - 1) / f;
+    long best = 0;
+    double best_c = -2.0;
+    for (long k = -coarse_max; k <= coarse_max; ++k) {
+      const double v = correlation_at(coarse_a, coarse_b, k);
+      if (std::isfinite(v) && v > best_c) {
+        best_c = v;
+        best = k;
+      }
+    }
+    if (best_c <= -2.0) return {};
+    lo = std::max(-k_max, best * f - 2 * f);
+    hi = std::min(k_max, best * f + 2 * f);
+  }
+  std::vector<double> c(static_cast<std::size_t>(hi - lo + 1));
+  long best = lo;
+  double best_c = -2.0;
+  for (long k = lo; k <= hi; ++k) {
+    const double v = correlation_at(a, b, k);
+    c[static_cast<std::size_t>(k - lo)] = v;
+    if (std::isfinite(v) && v > best_c) {
+      best_c = v;
+      best = k;
+    }
+  }
+  if (best_c <= -2.0) return {};
+  PeakLag peak;
+  peak.correlation = best_c;
+  peak.lag_samples = static_cast<double>(best);
+  peak.at_edge = best <= -k_max || best >= k_max;
+  if (best > lo && best < hi) {
+    const double cm = c[static_cast<std::size_t>(best - 1 - lo)];
+    const double cp = c[static_cast<std::size_t>(best + 1 - lo)];
+    const double curvature = cm - 2.0 * best_c + cp;
+    if (std::isfinite(curvature) && curvature < 0.0)
+      peak.lag_samples += 0.5 * (cm - cp) / curvature;
+  }
+  return peak;
+}
+
 }  // namespace
 
 std::string TemporalStructureResult::brief_report() const {
@@ -198,11 +272,16 @@ WindEstimate estimate_wind(const Night& night,
       static_cast<std::size_t>(std::llround(0.5 * options.highpass_window_s / grid.step_s));
   std::vector<std::vector<double>> series(na);
   std::vector<bool> usable(na, false);
+  // Block means for the coarse lag search: long nights are searched on at most ~4096 points,
+  // then refined at full resolution around the coarse peak.
+  const std::size_t factor = std::max<std::size_t>(1, grid.length / 4096);
+  std::vector<std::vector<double>> coarse(na);
   for (std::size_t a = 0; a < na; ++a) {
     std::vector<double> x = regular_path_m(paths, grid, a);
     series[a] = half > 0 ? highpass(x, half) : x;
     usable[a] = std::count_if(series[a].begin(), series[a].end(),
                               [](double v) { return std::isfinite(v); }) >= 3;
+    coarse[a] = factor > 1 ? block_means(series[a], factor) : series[a];
   }
 
   for (std::size_t a = 0; a < na; ++a) {
@@ -224,30 +303,12 @@ WindEstimate estimate_wind(const Night& night,
       // Lags beyond a quarter of the series leave too little overlap for a stable correlation.
       const long k_max = std::max(
           2L, std::min(std::lround(max_lag / grid.step_s), static_cast<long>(grid.length / 4)));
-      std::vector<double> c(static_cast<std::size_t>(2 * k_max + 1));
-      long best = 0;
-      double best_c = -2.0;
-      for (long k = -k_max; k <= k_max; ++k) {
-        const double v = correlation_at(series[a], series[b], k);
-        c[static_cast<std::size_t>(k + k_max)] = v;
-        if (std::isfinite(v) && v > best_c) {
-          best_c = v;
-          best = k;
-        }
-      }
-      if (best_c > -2.0) {
-        // Parabolic refinement between the neighbours of the peak.
-        double offset = 0.0;
-        if (best > -k_max && best < k_max) {
-          const double cm = c[static_cast<std::size_t>(best - 1 + k_max)];
-          const double cp = c[static_cast<std::size_t>(best + 1 + k_max)];
-          const double curvature = cm - 2.0 * best_c + cp;
-          if (std::isfinite(curvature) && curvature < 0.0) offset = 0.5 * (cm - cp) / curvature;
-        }
-        p.lag_s = (static_cast<double>(best) + offset) * grid.step_s;
-        p.peak_correlation = best_c;
+      const PeakLag peak = find_peak_lag(series[a], series[b], coarse[a], coarse[b], factor, k_max);
+      if (std::isfinite(peak.correlation)) {
+        p.lag_s = peak.lag_samples * grid.step_s;
+        p.peak_correlation = peak.correlation;
         // A peak at the edge of the search range is not a peak.
-        p.used = best_c >= options.min_correlation && std::abs(best) < k_max;
+        p.used = peak.correlation >= options.min_correlation && !peak.at_edge;
       }
       wind.pairs.push_back(p);
     }

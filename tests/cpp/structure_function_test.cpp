@@ -373,6 +373,26 @@ TEST(StructureFunctionNight, WindSpeedAndDirectionAreRecovered) {
   }
 }
 
+TEST(StructureFunctionNight, LongNightsAreSearchedCoarseThenFine) {
+  // 2.5 h at 1 s: the lag search runs on 2-sample block means first, then at full resolution.
+  const std::string text = layer_night(1000.0, -6.0, 4.0, 40, 10, 9000.0, 1.0);
+  const Scenario scenario = parse_scenario(text, "test.toml", test::testdata(""));
+  const Night night = simulate_night(scenario);
+  const AntennaPaths paths = retrieved_paths(night, scenario);
+  const WindEstimate wind = estimate_wind(night, paths);
+  ASSERT_TRUE(wind.ok()) << wind.brief_report();
+  const double towards = std::atan2(-6.0, 4.0) * 180.0 / std::numbers::pi;
+  const double diff = std::fmod(wind.direction_to_deg - towards + 540.0, 360.0) - 180.0;
+  EXPECT_NEAR(wind.speed_m_s / std::hypot(-6.0, 4.0), 1.0, 0.1) << wind.brief_report();
+  EXPECT_LT(std::abs(diff), 15.0) << wind.brief_report();
+  // Fractional lags: the parabolic refinement ran at full resolution.
+  std::size_t fractional = 0;
+  for (const PairLag& p : wind.pairs)
+    if (p.used && std::abs(p.lag_s - std::round(p.lag_s)) > 1e-6) ++fractional;
+  EXPECT_GT(fractional, 0u);
+  std::cout << "long night: " << wind.brief_report() << "\n";
+}
+
 TEST(StructureFunctionNight, TemporalStructureFollowsFrozenFlow) {
   // D(tau) of one antenna's path equals the spatial D at |v| tau (Taylor).
   AntennaPaths paths;
