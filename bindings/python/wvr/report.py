@@ -354,6 +354,7 @@ _FIT_NAMES = {
     "break_m": ("break_m",),
     "transition_width": ("transition_width",),
     "saturation_m2": ("saturation_m2",),
+    "model": ("model",),
 }
 
 
@@ -423,10 +424,14 @@ def _figure_structure(summary):
         axes.loglog(s, v, "o", color=colour, markersize=4, label=label.replace("_", " "))
         if fit is None:
             continue
-        label_fit = (f"{label.replace('_', ' ')} fit: slopes "
-                     f"{format_value(_as_float(fit.get('alpha_short')))} / "
-                     f"{format_value(_as_float(fit.get('alpha_long')))}, break "
-                     f"{format_value(_as_float(fit.get('break_m')))} m")
+        if fit.get("model") == "single power law":
+            label_fit = (f"{label.replace('_', ' ')} fit: single power law, slope "
+                         f"{format_value(_as_float(fit.get('alpha_short')))}")
+        else:
+            label_fit = (f"{label.replace('_', ' ')} fit: slopes "
+                         f"{format_value(_as_float(fit.get('alpha_short')))} / "
+                         f"{format_value(_as_float(fit.get('alpha_long')))}, break "
+                         f"{format_value(_as_float(fit.get('break_m')))} m")
         # The smooth curve needs the transition width unless both slopes are equal; without it
         # the model values the summary gives at the points are joined instead.
         width_known = "transition_width" in fit or fit.get("alpha_short") == fit.get(
