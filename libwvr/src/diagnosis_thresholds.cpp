@@ -36,7 +36,7 @@ std::span<const DiagnosisThresholdField> diagnosis_threshold_fields() {
       {"fault_chi2_ratio", &T::fault_chi2_ratio,
        "antenna fault: chi2/dof above this x the array median"},
       {"fault_residual_ratio", &T::fault_residual_ratio,
-       "antenna fault: phase residual above this x the array median"},
+       "antenna fault: phase residual above this x the array's at that baseline length"},
   }};
   return kFields;
 }

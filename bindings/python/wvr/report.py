@@ -297,7 +297,8 @@ def _figure_timeline(info, windows, diagnosis):
                     faults[names.index(entry["antenna"]), k] = 1
     divisor, label = _time_axis(info["duration_s"])
     rows = 1 + len(names)
-    figure, axes = plt.subplots(figsize=(9.0, 1.0 + 0.28 * rows + 0.8))
+    height_in = 1.0 + 0.28 * rows + 0.8
+    figure, axes = plt.subplots(figsize=(9.0, height_in))
     seen = {}
     for k, w in enumerate(windows):
         start = _as_float(w["start_s"]) / divisor
@@ -313,9 +314,11 @@ def _figure_timeline(info, windows, diagnosis):
     axes.set_yticklabels(list(reversed(names)) + ["array verdict"], fontsize=8)
     axes.set_xlabel(label)
     axes.set_title(title + " (hatched: inherited; red: antenna flagged)")
-    axes.legend(seen.values(), seen.keys(), loc="upper center", bbox_to_anchor=(0.5, -0.25),
-                ncol=4, fontsize=8)
-    figure.tight_layout()
+    # The legend in a fixed 0.45 inch strip at the bottom, whatever the number of antennas.
+    strip = 0.45 / height_in
+    figure.legend(seen.values(), seen.keys(), loc="lower center", ncol=4, fontsize=8,
+                  frameon=False)
+    figure.tight_layout(rect=(0.0, strip, 1.0, 1.0))
     return _png_bytes(figure), None
 
 

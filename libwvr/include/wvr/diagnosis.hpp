@@ -24,9 +24,10 @@
 // brightness varies less than stuck_noise_fraction x its noise, spikes (samples with chi2/dof
 // above spike_chi2_per_dof in more than spike_fraction of samples), chi2/dof above
 // fault_chi2_ratio x the array median (and above cloud_chi2_per_dof / 2), or a residual after
-// correction above fault_residual_ratio x the array median; a window between two windows that
-// flag an antenna for the same reason flags it too (intermittent faults). Faulty antennas are
-// left out of the array statistics.
+// correction above fault_residual_ratio x the array's at that baseline length (a power law in
+// length fitted to the window's baselines: dry air leaves more on long baselines); a window between
+// two windows that flag an antenna for the same reason flags it too (intermittent faults). Faulty
+// antennas are left out of the array statistics.
 
 #include <cstdint>
 #include <filesystem>
