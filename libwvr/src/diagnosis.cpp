@@ -6,6 +6,7 @@
 #include <numbers>
 #include <sstream>
 
+#include "residual_trend.hpp"
 #include "statistics.hpp"
 #include "wvr/constants.hpp"
 #include "wvr/error.hpp"
@@ -74,52 +75,6 @@ struct BaselineWindow {
   double rms_before = 0, rms_after = 0, floor = 0, correlation = 0, slope = 0, predicted_rms = 0;
   double rms_refit = 0;  // scatter left after rescaling the prediction by `slope`
 };
-
-// rms after correction against baseline length, rms = exp(c) length^slope, fitted in log-log
-// over the window's baselines (slope within [0, 1]: a structure function rises no faster
-// than d^2); baselines far above a first fit are left out of the second.
-struct ResidualTrend {
-  double log_c = std::nan(""), slope = 0.0;
-  double expected(const Night& night, std::size_t a, std::size_t b) const {
-    const auto& pa = night.array.position_enu_m[a];
-    const auto& pb = night.array.position_enu_m[b];
-    const double length = std::max(1.0, std::hypot(pb[0] - pa[0], pb[1] - pa[1]));
-    return std::exp(log_c + slope * std::log(length));
-  }
-};
-
-ResidualTrend residual_trend(const Night& night,
-                             const std::vector<BaselineWindow>& baselines,
-                             double outlier_ratio) {
-  ResidualTrend trend;
-  std::vector<bool> keep(baselines.size(), true);
-  for (int pass = 0; pass < 2; ++pass) {
-    double sx = 0, sy = 0, sxx = 0, sxy = 0, n = 0;
-    for (std::size_t i = 0; i < baselines.size(); ++i) {
-      const BaselineWindow& bw = baselines[i];
-      if (!keep[i] || !(bw.rms_after > 0.0) || !std::isfinite(bw.rms_after)) continue;
-      const auto& pa = night.array.position_enu_m[bw.a];
-      const auto& pb = night.array.position_enu_m[bw.b];
-      const double x = std::log(std::max(1.0, std::hypot(pb[0] - pa[0], pb[1] - pa[1])));
-      const double y = std::log(bw.rms_after);
-      sx += x;
-      sy += y;
-      sxx += x * x;
-      sxy += x * y;
-      n += 1.0;
-    }
-    if (n < 1.0) return trend;
-    const double var_x = sxx - sx * sx / n;
-    trend.slope =
-        n >= 3.0 && var_x > 1e-12 ? std::clamp((sxy - sx * sy / n) / var_x, 0.0, 1.0) : 0.0;
-    trend.log_c = (sy - trend.slope * sx) / n;
-    for (std::size_t i = 0; i < baselines.size(); ++i) {
-      keep[i] = !(baselines[i].rms_after >
-                  outlier_ratio * trend.expected(night, baselines[i].a, baselines[i].b));
-    }
-  }
-  return trend;
-}
 
 // Radiometer-only evidence for antenna a over samples [k0, k1).
 std::uint8_t antenna_radiometer_faults(const Night& night,
@@ -328,22 +283,21 @@ NightDiagnosis diagnose_night(const Night& night,
     // What is left after correction (dry air, mostly) grows with baseline length, so each
     // baseline is compared with the array's trend at its length, not with the array median:
     // otherwise the longest baselines would look faulty whenever dry turbulence is up.
-    const ResidualTrend trend = residual_trend(night, baselines, th.fault_residual_ratio);
-    std::vector<double> per_antenna_after(na, std::nan("")), per_antenna_excess(na, std::nan(""));
+    std::vector<detail::BaselineResidual> residuals;
+    std::vector<double> per_antenna_after(na, std::nan(""));
     {
-      std::vector<std::vector<double>> values(na), excess(na);
+      std::vector<std::vector<double>> values(na);
       for (const BaselineWindow& bw : baselines) {
-        const double ratio = bw.rms_after / trend.expected(night, bw.a, bw.b);
-        for (std::size_t x : {bw.a, bw.b}) {
-          values[x].push_back(bw.rms_after);
-          excess[x].push_back(ratio);
-        }
+        const auto& pa = night.array.position_enu_m[bw.a];
+        const auto& pb = night.array.position_enu_m[bw.b];
+        residuals.push_back({bw.a, bw.b, std::hypot(pb[0] - pa[0], pb[1] - pa[1]), bw.rms_after});
+        values[bw.a].push_back(bw.rms_after);
+        values[bw.b].push_back(bw.rms_after);
       }
-      for (std::size_t a = 0; a < na; ++a) {
-        per_antenna_after[a] = detail::finite_median(values[a]);
-        per_antenna_excess[a] = detail::finite_median(excess[a]);
-      }
+      for (std::size_t a = 0; a < na; ++a) per_antenna_after[a] = detail::finite_median(values[a]);
     }
+    const std::vector<double> per_antenna_excess =
+        detail::residual_excess(residuals, na, th.fault_residual_ratio);
     for (std::size_t a = 0; a < na; ++a) {
       std::vector<double> others;
       for (const BaselineWindow& bw : baselines) {

@@ -103,6 +103,9 @@ CalibratorTemporalResult calibrator_temporal_structure(const Night& night,
     for (double lag : options.lag_s)
       lag_samples.push_back(std::max<std::size_t>(1, std::lround(lag / cadence_s)));
   }
+  // User lags may round to the same sample count.
+  std::sort(lag_samples.begin(), lag_samples.end());
+  lag_samples.erase(std::unique(lag_samples.begin(), lag_samples.end()), lag_samples.end());
   std::vector<double> sum_sq(lag_samples.size(), 0.0), sum_sq_rad(lag_samples.size(), 0.0);
   std::vector<std::size_t> count(lag_samples.size(), 0);
   std::vector<bool> baseline_used(static_cast<std::size_t>(na) * static_cast<std::size_t>(na));

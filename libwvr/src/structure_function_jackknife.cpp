@@ -12,9 +12,9 @@ namespace wvr {
 std::string NightSlabThickness::brief_report() const {
   std::ostringstream out;
   out.precision(4);
-  out << fit.brief_report() << "; jackknife over " << segment_thickness_m.size()
-      << " segments: sigma ln W " << log_thickness_sigma << " (W " << jackknife_low_m << " .. "
-      << jackknife_high_m << " m)";
+  out << fit.brief_report() << "; jackknife over " << segment_thickness_m.size() << " segments ("
+      << segments_dropped << " dropped): sigma ln W " << log_thickness_sigma << " (W "
+      << jackknife_low_m << " .. " << jackknife_high_m << " m)";
   return out.str();
 }
 
@@ -38,7 +38,8 @@ NightSlabThickness night_slab_thickness(const Night& night,
     return fit_slab_thickness(binned.separation, binned.value_m2);
   };
   out.fit = fit_of(paths);
-  if (out.fit.status == DiagnosticStatus::kNoData) return out;
+  // A limit has no error bar to estimate.
+  if (!out.fit.ok() || out.fit.constraint != ThicknessConstraint::kMeasured) return out;
   // Delete-one-segment jackknife (Quenouille 1956, Tukey 1958; textbook): refit with each time
   // segment removed; the spread of ln W over the refits, times sqrt((K - 1) / K) summed,
   // estimates the error of ln W from the night's own sample variance.
@@ -53,7 +54,10 @@ NightSlabThickness night_slab_thickness(const Night& night,
         reduced.path_mm[a * nt + i] = std::nan("");
     }
     const SlabThicknessFit f = fit_of(reduced);
-    if (f.status == DiagnosticStatus::kNoData || !(f.thickness_m > 0.0)) continue;
+    if (!f.ok() || f.constraint != ThicknessConstraint::kMeasured) {
+      ++out.segments_dropped;  // a refit that only gives a limit would bias the spread
+      continue;
+    }
     out.segment_thickness_m.push_back(f.thickness_m);
     logs.push_back(std::log(f.thickness_m));
     sum += logs.back();

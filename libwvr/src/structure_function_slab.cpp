@@ -294,34 +294,55 @@ SlabThicknessFit fit_slab_thickness(std::span<const double> separation_m,
   while (g_hi < kGrid && sse[static_cast<std::size_t>(g_hi)] <= limit) ++g_hi;
   const bool open_low = sse[static_cast<std::size_t>(g_lo)] <= limit;
   const bool open_high = sse[static_cast<std::size_t>(g_hi)] <= limit;
-  // Interval ends interpolated linearly in the SSE between grid points.
-  const auto crossing = [&](int inside, int outside) {
-    const double s_in = sse[static_cast<std::size_t>(inside)];
-    const double s_out = sse[static_cast<std::size_t>(outside)];
-    const double f = s_out > s_in ? std::clamp((limit - s_in) / (s_out - s_in), 0.0, 1.0) : 1.0;
-    return lo + step * (inside + f * (outside - inside));
+  // Interval ends: the crossing of the limit by the continuous profile (the best outer-scale
+  // row held), bisected between the best value and the first grid point outside.
+  const auto crossing = [&](int outside) {
+    double inside_x = log_w, outside_x = lo + step * outside;
+    for (int i = 0; i < 40; ++i) {
+      const double mid = 0.5 * (inside_x + outside_x);
+      (profile_at(row, mid, log_d, log_v).sse <= limit ? inside_x : outside_x) = mid;
+    }
+    return 0.5 * (inside_x + outside_x);
   };
-  const double log_low = open_low ? lo : crossing(g_lo + 1, g_lo);
-  const double log_high = open_high ? hi : crossing(g_hi - 1, g_hi);
+  const double log_low = open_low ? lo : crossing(g_lo);
+  const double log_high = open_high ? hi : crossing(g_hi);
   fit.thickness_low_m = std::exp(std::min(log_low, log_w));
   fit.thickness_high_m = std::exp(std::max(log_high, log_w));
   fit.status = DiagnosticStatus::kOk;
+  const auto limit_at = [&](ThicknessConstraint constraint, double thickness_m,
+                            const std::string& why) {
+    fit.constraint = constraint;
+    fit.thickness_m = thickness_m;
+    // The interval becomes the one-sided range the limit allows (up to the search limits).
+    if (constraint == ThicknessConstraint::kAtLeast) {
+      fit.thickness_low_m = thickness_m;
+      fit.thickness_high_m = std::exp(hi);
+    } else {
+      fit.thickness_low_m = std::exp(lo);
+      fit.thickness_high_m = thickness_m;
+    }
+    fit.path_m2_at_thickness =
+        std::exp(profile_at(row, std::log(fit.thickness_m), log_d, log_v).log_a);
+    fit.message = why;
+  };
   if (open_low && open_high) {
     fit.status = DiagnosticStatus::kTooFewPoints;
     fit.message = "the points do not constrain the thickness";
   } else if (open_high) {
     // Every baseline looks thick: only a lower limit (the interval's lower end).
-    fit.constraint = ThicknessConstraint::kAtLeast;
-    fit.thickness_m = fit.thickness_low_m;
-    fit.path_m2_at_thickness =
-        std::exp(profile_at(row, std::log(fit.thickness_m), log_d, log_v).log_a);
-    fit.message = "every separation is in the thick (5/3) regime";
+    limit_at(ThicknessConstraint::kAtLeast, fit.thickness_low_m,
+             "every separation is in the thick (5/3) regime");
   } else if (open_low) {
-    fit.constraint = ThicknessConstraint::kAtMost;
-    fit.thickness_m = fit.thickness_high_m;
-    fit.path_m2_at_thickness =
-        std::exp(profile_at(row, std::log(fit.thickness_m), log_d, log_v).log_a);
-    fit.message = "every separation is in the thin (2/3) regime";
+    limit_at(ThicknessConstraint::kAtMost, fit.thickness_high_m,
+             "every separation is in the thin (2/3) regime");
+  } else if (log_w > log_max) {
+    // A best W beyond the points is read off the slow approach of the slope to 5/3: a slope
+    // error of 0.02 moves it by ~2x (theory curves with a tilt), so only a limit is claimed.
+    limit_at(ThicknessConstraint::kAtLeast, std::exp(log_max),
+             "the transition lies beyond the longest separation");
+  } else if (log_w < log_min) {
+    limit_at(ThicknessConstraint::kAtMost, std::exp(log_min),
+             "the transition lies below the shortest separation");
   }
   // Regime slopes: points at least kRegimeFactor inside each regime, or all of them when the
   // thickness is only a limit on that side.

@@ -123,7 +123,8 @@ TEST(FastSwitchingNight, CorrectedCalibratorPhasesGiveTheResidualStructureAndAdv
   ASSERT_GE(after.lag_s.size(), 6u);
   EXPECT_GT(after.estimate.separation.back(), 300.0);
   for (std::size_t l = 0; l < after.lag_s.size(); ++l) {
-    const double truth = true_dry_structure_m2(c.night, static_cast<std::size_t>(after.lag_s[l]));
+    const double truth =
+        true_dry_structure_m2(c.night, static_cast<std::size_t>(std::lround(after.lag_s[l])));
     std::cout << "lag " << after.lag_s[l] << " s (" << after.estimate.separation[l]
               << " m): measured " << after.estimate.value_m2[l] << " m^2, true dry " << truth
               << " m^2\n";
@@ -146,7 +147,8 @@ TEST(FastSwitchingNight, CorrectedCalibratorPhasesGiveTheResidualStructureAndAdv
   const double k = 2.0 * std::numbers::pi * 230e9 / constants::speed_of_light_m_per_s;
   for (std::size_t i = 0; i < input.report_cycle_times_s.size(); ++i) {
     const double direct_deg =
-        direct_hold_residual_m(c.night, static_cast<std::size_t>(input.report_cycle_times_s[i])) *
+        direct_hold_residual_m(
+            c.night, static_cast<std::size_t>(std::lround(input.report_cycle_times_s[i]))) *
         k * 180.0 / std::numbers::pi;
     std::cout << "t_cyc " << input.report_cycle_times_s[i] << " s: rule "
               << advice.residual_uncorrected_deg[i] << " deg, direct " << direct_deg << " deg\n";

@@ -196,9 +196,12 @@ double slab_break_over_thickness();
 
 // What the points say about the thickness W of the turbulent layer.
 enum class ThicknessConstraint {
-  kMeasured,  // the transition from 5/3 to 2/3 lies among the points
-  kAtLeast,   // every point is in the thick regime: W is at least thickness_m
-  kAtMost,    // every point is in the thin regime: W is at most thickness_m
+  kMeasured,  // the best W lies within the points' separations
+  // The best W lies beyond the longest separation, or the profile stays flat towards large W:
+  // W is at least thickness_m (a best W outside the points is read off the slow approach of
+  // the slope to 5/3 or 2/3, which a slope error of 0.02 moves by ~2x).
+  kAtLeast,
+  kAtMost,  // likewise below the shortest separation: W is at most thickness_m
 };
 const char* to_string(ThicknessConstraint constraint);
 
@@ -260,12 +263,14 @@ struct NightSlabThickness {
   double log_thickness_sigma = std::nan("");  // jackknife error of ln W
   double jackknife_low_m = std::nan(""), jackknife_high_m = std::nan("");  // W e^(-/+ sigma)
   std::vector<double> segment_thickness_m;  // W of each refit (one segment left out)
+  std::size_t segments_dropped = 0;         // refits that gave no measured W (not pooled)
 
   std::string brief_report() const;
 };
 
 // radiometer_structure_function + bin_structure_function + fit_slab_thickness on the whole
-// night, then again with each of `segments` equal time segments left out. Throws InvalidInput
+// night, then, when that W is measured (not a limit), again with each of `segments` equal time
+// segments left out; refits that give only a limit are dropped and counted. Throws InvalidInput
 // for segments outside [2, 100] and as radiometer_structure_function does.
 NightSlabThickness night_slab_thickness(const Night& night,
                                         const AntennaPaths& paths,
@@ -298,16 +303,28 @@ TemporalStructureResult temporal_path_structure(const AntennaPaths& paths,
 // ---- Calibrator phases in time, mapped onto the flow ----
 //
 // What fast switching needs is the antenna-based residual after a time lag tau, i.e. the
-// structure function at the flow separation v tau (Taylor). On a baseline much longer than
-// v tau the two antennas' changes are independent, so
-//   D_antenna(v tau) = <(phi_ab(t + tau) - phi_ab(t))^2> / 2   (in path units).
+// structure function at the flow separation v tau (Taylor). Halving a baseline's value,
+//   D_antenna(v tau) = <(phi_ab(t + tau) - phi_ab(t))^2> / 2   (in path units),
+// assumes the two antennas' changes are independent. Under frozen flow the exact relation is
+//   D_b(tau) = 2 D(|u|) + 2 D(|b|) - D(|b + u|) - D(|b - u|),  u = v tau,
+// and the neglected correlation term is small only when |b| >> |u| AND |b| >> the residual
+// layer's thickness. Measured on the LayerSpectrum theory: across the wind the halved value is
+// 0.56 of D(v tau) for W = 400 m at |b| = 2 |u|, 0.44 (|b| = 2 |u|) and 0.76 (|b| = 10 |u|)
+// for W = 3 km; along the wind it is high (1.13). Fitting a single power law D = c d^alpha with
+// the exact relation made it worse on a simulated 300 m dry layer (+15 % at 500 m: the power
+// law misdescribes D at km baselines beyond the outer scale), so the plain halving is kept
+// and its bias stated: with a 300 m dry layer and 1.5 km baselines it is within 5 % for
+// lags of 5-55 s (fast_switching_night_test); under a thick residual layer seen on short
+// baselines it can be low by a third (optimistic advice).
 // Unlike calibrator_structure_function, this needs no per-scan offset: the differences are
 // taken within one scan. The white thermal noise adds a constant 2 sigma^2 / 2 at every lag
-// (kept: it is part of what switching leaves behind). Separations reach v x half a scan.
+// (kept; per-sample noise is more than a calibration averaged over its dwell carries, so the
+// shortest lags are pessimistic). Separations reach v x half a scan.
 
 struct CalibratorTemporalOptions {
   std::vector<double> lag_s;  // empty: 1, 2, 3, 5, 8, ... samples up to half the longest scan
-  // Baselines shorter than this x v tau are not used at lag tau (correlated antennas).
+  // Baselines shorter than this x v tau are not used at lag tau (correlated antennas; the
+  // factor is our choice, see the bias above).
   double min_baseline_over_flow = 2.0;
   std::size_t min_pairs = 20;  // lags with fewer sample pairs are dropped
   // Lags whose rms phase difference exceeds this (rad) are dropped: the wrapped differences
