@@ -33,6 +33,10 @@ double slab_break_over_thickness() {
 
 namespace {
 
+// Slope bounds of the fit: a path structure function rises no faster than d^2 (a smooth
+// screen; some room left) and does not fall much (noise on saturated points).
+constexpr double kMinSlope = -0.5, kMaxSlope = 2.5;
+
 // ln of the model at ln(d). Parameters: ln A, alpha_short, alpha_long, ln d_break, ln w,
 // ln D_sat (ignored unless saturating).
 template <typename T>
@@ -233,10 +237,9 @@ BrokenPowerLawFit fit_broken_power_law(std::span<const double> separation_m,
   }
   problem.SetParameterLowerBound(&log_break, 0, log_min);
   problem.SetParameterUpperBound(&log_break, 0, log_max);
-  // Path structure functions rise no faster than d^2 (a smooth screen) and do not fall.
   for (double* alpha : {&alpha_s, &alpha_l}) {
-    problem.SetParameterLowerBound(alpha, 0, -0.5);
-    problem.SetParameterUpperBound(alpha, 0, 2.5);
+    problem.SetParameterLowerBound(alpha, 0, kMinSlope);
+    problem.SetParameterUpperBound(alpha, 0, kMaxSlope);
   }
   if (fit_width) {
     problem.SetParameterLowerBound(&log_width, 0, std::log(0.05));
@@ -299,7 +302,7 @@ BrokenPowerLawFit fit_broken_power_law(std::span<const double> separation_m,
   // A slope held at its bound describes nothing physical: say so.
   for (const auto& [name, alpha] :
        {std::pair{"alpha_short", alpha_s}, std::pair{"alpha_long", alpha_l}}) {
-    if (alpha <= -0.5 + 1e-6 || alpha >= 2.5 - 1e-6) {
+    if (alpha <= kMinSlope + 1e-6 || alpha >= kMaxSlope - 1e-6) {
       fit.message += std::string(fit.message.empty() ? "" : "; ") + name +
                      " stopped at its bound " +
                      (alpha < 0.0 ? "-0.5 (the points fall or saturate there)" : "2.5");

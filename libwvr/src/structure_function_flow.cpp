@@ -160,6 +160,22 @@ PeakLag find_peak_lag(const std::vector<double>& a,
     }
   }
   if (best_c <= -2.0) return {};
+  // A fine peak on the edge of the window (not of the search range) widens the window once.
+  if (f > 1 && ((best == lo && lo > -k_max) || (best == hi && hi < k_max))) {
+    const long wide_lo = std::max(-k_max, best - 2 * f), wide_hi = std::min(k_max, best + 2 * f);
+    std::vector<double> wide(static_cast<std::size_t>(wide_hi - wide_lo + 1));
+    for (long k = wide_lo; k <= wide_hi; ++k) {
+      const double v = correlation_at(a, b, k);
+      wide[static_cast<std::size_t>(k - wide_lo)] = v;
+      if (std::isfinite(v) && v > best_c) {
+        best_c = v;
+        best = k;
+      }
+    }
+    lo = wide_lo;
+    hi = wide_hi;
+    c = std::move(wide);
+  }
   PeakLag peak;
   peak.correlation = best_c;
   peak.lag_samples = static_cast<double>(best);
@@ -235,6 +251,10 @@ void WindOptions::validate() const {
   require_in_range("min_speed_m_s", min_speed_m_s, 1e-3, 1e3, "m/s");
   require_in_range("max_lag_s", max_lag_s, 1e-3, 1e6, "s");
   require_in_range("min_correlation", min_correlation, -1.0, 1.0);
+  if (coarse_search_points < 16) {
+    throw InvalidInput("coarse_search_points = " + std::to_string(coarse_search_points) +
+                       " must be at least 16");
+  }
   if (!(min_baseline_m >= 0.0) || !(max_baseline_m > min_baseline_m)) {
     throw InvalidInput(describe_value("min_baseline_m", min_baseline_m) + " and " +
                        describe_value("max_baseline_m", max_baseline_m) +
@@ -272,9 +292,9 @@ WindEstimate estimate_wind(const Night& night,
       static_cast<std::size_t>(std::llround(0.5 * options.highpass_window_s / grid.step_s));
   std::vector<std::vector<double>> series(na);
   std::vector<bool> usable(na, false);
-  // Block means for the coarse lag search: long nights are searched on at most ~4096 points,
-  // then refined at full resolution around the coarse peak.
-  const std::size_t factor = std::max<std::size_t>(1, grid.length / 4096);
+  // Block means for the coarse lag search: long nights are searched on at most
+  // coarse_search_points points, then refined at full resolution around the coarse peak.
+  const std::size_t factor = std::max<std::size_t>(1, grid.length / options.coarse_search_points);
   std::vector<std::vector<double>> coarse(na);
   for (std::size_t a = 0; a < na; ++a) {
     std::vector<double> x = regular_path_m(paths, grid, a);

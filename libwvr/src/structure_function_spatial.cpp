@@ -189,10 +189,11 @@ SpatialStructureResult radiometer_structure_function(const Night& night,
                          " values for " + std::to_string(na) + " antennas");
     }
     for (std::size_t a = 0; a < na; ++a) {
-      if (noise_mm[a] < 0.0)
+      // NaN means "unknown" (no noise subtracted); anything else must be a finite value >= 0.
+      if (!std::isnan(noise_mm[a]) && !(noise_mm[a] >= 0.0 && std::isfinite(noise_mm[a])))
         throw InvalidInput(
             describe_value("antenna_path_noise_mm[" + std::to_string(a) + "]", noise_mm[a]) +
-            " must be >= 0 mm");
+            " must be finite and >= 0 mm (or NaN: unknown)");
     }
   }
   const auto noise_variance_m2 = [&](std::size_t a) {

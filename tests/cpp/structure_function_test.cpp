@@ -6,6 +6,7 @@
 
 #include <cmath>
 #include <iostream>
+#include <limits>
 #include <numbers>
 
 #include "test_util.hpp"
@@ -346,6 +347,12 @@ TEST(StructureFunctionNight, RadiometerNoiseFloorIsSubtracted) {
   EXPECT_THROW(radiometer_structure_function(night, paths, options), InvalidInput);
   options.antenna_path_noise_mm.assign(night.antenna_count(), -1.0);
   EXPECT_THROW(radiometer_structure_function(night, paths, options), InvalidInput);
+  options.antenna_path_noise_mm.assign(night.antenna_count(),
+                                       std::numeric_limits<double>::infinity());
+  EXPECT_THROW(radiometer_structure_function(night, paths, options), InvalidInput);
+  options.antenna_path_noise_mm.assign(night.antenna_count(), std::nan(""));  // unknown: kept
+  EXPECT_NEAR(radiometer_structure_function(night, paths, options).baselines[0].structure_m2,
+              raw_sf.baselines[0].structure_m2, 1e-20);
 }
 
 Night wind_night(double east_m_s, double north_m_s, std::uint64_t seed, AntennaPaths* paths) {
@@ -388,12 +395,26 @@ TEST(StructureFunctionNight, LongNightsAreSearchedCoarseThenFine) {
   const double diff = std::fmod(wind.direction_to_deg - towards + 540.0, 360.0) - 180.0;
   EXPECT_NEAR(wind.speed_m_s / std::hypot(-6.0, 4.0), 1.0, 0.1) << wind.brief_report();
   EXPECT_LT(std::abs(diff), 15.0) << wind.brief_report();
-  // Fractional lags: the parabolic refinement ran at full resolution.
-  std::size_t fractional = 0;
-  for (const PairLag& p : wind.pairs)
-    if (p.used && std::abs(p.lag_s - std::round(p.lag_s)) > 1e-6) ++fractional;
-  EXPECT_GT(fractional, 0u);
   std::cout << "long night: " << wind.brief_report() << "\n";
+  // Blocks of 8 samples against the full-resolution search: the same peaks.
+  WindOptions coarse, full;
+  coarse.coarse_search_points = 1100;
+  full.coarse_search_points = 1'000'000;
+  const WindEstimate w8 = estimate_wind(night, paths, coarse);
+  const WindEstimate w1 = estimate_wind(night, paths, full);
+  ASSERT_TRUE(w8.ok() && w1.ok());
+  ASSERT_EQ(w8.pairs.size(), w1.pairs.size());
+  std::size_t compared = 0;
+  for (std::size_t i = 0; i < w1.pairs.size(); ++i) {
+    if (!w1.pairs[i].used) continue;
+    EXPECT_NEAR(w8.pairs[i].lag_s, w1.pairs[i].lag_s, 1e-9) << "pair " << i;
+    ++compared;
+  }
+  EXPECT_GE(compared, 5u);
+  EXPECT_NEAR(w8.speed_m_s, w1.speed_m_s, 1e-9);
+  WindOptions bad;
+  bad.coarse_search_points = 3;
+  EXPECT_THROW(estimate_wind(night, paths, bad), InvalidInput);
 }
 
 TEST(StructureFunctionNight, TemporalStructureFollowsFrozenFlow) {

@@ -18,6 +18,10 @@
 namespace skyphase {
 
 DiagnosedNight diagnose_and_write(const CommonOptions& o) {
+  // Thresholds first: a mistake in the file should not wait for the retrieval.
+  const wvr::DiagnosisThresholds thresholds =
+      o.thresholds_file.empty() ? wvr::DiagnosisThresholds{}
+                                : wvr::load_diagnosis_thresholds(o.thresholds_file);
   Prepared p = prepare(o);
   DiagnosedNight out;
   const StoredCalibration stored = stored_calibration(p.night, o.night_file);
@@ -43,9 +47,6 @@ DiagnosedNight diagnose_and_write(const CommonOptions& o) {
                                        p.phase_per_path(freq)),
         metrics));
   }
-  const wvr::DiagnosisThresholds thresholds =
-      o.thresholds_file.empty() ? wvr::DiagnosisThresholds{}
-                                : wvr::load_diagnosis_thresholds(o.thresholds_file);
   const wvr::NightDiagnosis diagnosis =
       wvr::diagnose_night(p.night, p.retrieval, p.paths, metrics, p.phase_per_path, thresholds);
   p.new_groups.push_back(wvr::diagnosis_result_group(diagnosis));

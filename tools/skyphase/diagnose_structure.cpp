@@ -2,7 +2,9 @@
 #include <algorithm>
 #include <array>
 #include <cmath>
+#include <functional>
 #include <limits>
+#include <optional>
 #include <span>
 #include <tuple>
 
@@ -70,7 +72,7 @@ nlohmann::ordered_json slab_json(const wvr::NightSlabThickness& night_fit) {
   const wvr::SlabThicknessFit& f = night_fit.fit;
   nlohmann::ordered_json j;
   j["status"] = f.ok() ? "ok" : f.message;
-  if (f.status == wvr::DiagnosticStatus::kNoData) return j;
+  if (!f.ok()) return j;
   j["constraint"] = wvr::to_string(f.constraint);
   j["thickness_m"] = json_number(f.thickness_m);
   j["thickness_low_m"] = json_number(f.thickness_low_m);
@@ -148,31 +150,45 @@ nlohmann::ordered_json temporal_json(const wvr::Night& night,
 // residual's (what the radiometers cannot see, mostly dry air): independent layers add in D.
 // Corrected: the residual alone, from the corrected calibrator phases by lag.
 nlohmann::ordered_json fast_switching_json(const FittedStructure& radiometer,
+                                           const std::optional<wvr::SlabThicknessFit>& slab,
                                            const FittedStructure& residual,
                                            const wvr::WindEstimate& wind,
                                            const wvr::Night& night,
                                            const CommonOptions& o) {
-  if (!radiometer.ok || !wind.ok()) {
-    return {
-        {"status", "not available: needs the radiometer structure function and a wind estimate"}};
+  // The wet structure function: the slab model (its outer scale describes saturation), else
+  // the broken power law unless a slope of it stopped at a bound.
+  std::function<double(double)> wet;
+  std::string wet_source;
+  if (slab && slab->ok()) {
+    const wvr::SlabThicknessFit s = *slab;
+    wet = [s](double d) { return d > 0.0 ? s.evaluate_m2(d) : 0.0; };
+    wet_source = "radiometer slab fit (wet only)";
+  } else if (radiometer.ok && radiometer.fit.message.find("bound") == std::string::npos) {
+    const wvr::BrokenPowerLawFit f = radiometer.fit;
+    wet = [f](double d) { return d > 0.0 ? f.evaluate_m2(d) : 0.0; };
+    wet_source = "radiometer broken power-law fit (wet only)";
+  }
+  if (!wet || !wind.ok()) {
+    return {{"status",
+             "not available: needs a usable radiometer structure function fit and a wind "
+             "estimate"}};
   }
   const auto model_of = [](const wvr::BrokenPowerLawFit& f) {
     return [f](double d) { return d > 0.0 ? f.evaluate_m2(d) : 0.0; };
   };
   wvr::FastSwitchingInput input;
-  std::string uncorrected_source = "radiometer structure function fit (wet only)";
+  std::string uncorrected_source = wet_source;
   if (residual.ok) {
-    const auto wet = model_of(radiometer.fit);
     const auto rest = model_of(residual.fit);
     input.uncorrected = wvr::PathStructureFunction::from_function(
         [wet, rest](double d) { return wet(d) + rest(d); }, std::numeric_limits<double>::infinity(),
         "radiometer + corrected residual");
     input.corrected = wvr::PathStructureFunction::from_function(
         rest, std::numeric_limits<double>::infinity(), "corrected residual by lag");
-    uncorrected_source = "radiometer structure function fit + corrected residual fit";
+    uncorrected_source = wet_source + " + corrected residual fit";
   } else {
     input.uncorrected = wvr::PathStructureFunction::from_function(
-        model_of(radiometer.fit), std::numeric_limits<double>::infinity(), "radiometer fit");
+        wet, std::numeric_limits<double>::infinity(), "radiometer fit");
   }
   input.wind_speed_m_s = wind.speed_m_s;
   input.layer_height_m = o.advice_layer_height_m;
@@ -256,13 +272,16 @@ nlohmann::ordered_json structure_wind_and_advice(const Prepared& p,
   FittedStructure radiometer = fitted_structure(
       radiometer_sf,
       "radiometer wet path, whole night, radiometer noise subtracted, cloud and faults left out");
+  std::optional<wvr::SlabThicknessFit> slab;
   if (radiometer_sf.ok()) {
     double noise_m2 = 0.0;
     for (const wvr::BaselineStructure& b : radiometer_sf.baselines) noise_m2 += b.noise_m2;
     radiometer.json["noise_subtracted_m2_mean"] =
         json_number(noise_m2 / static_cast<double>(radiometer_sf.baselines.size()));
-    radiometer.json["slab"] =
-        slab_json(wvr::night_slab_thickness(p.night, clean, radiometer_options));
+    const wvr::NightSlabThickness night_slab =
+        wvr::night_slab_thickness(p.night, clean, radiometer_options);
+    radiometer.json["slab"] = slab_json(night_slab);
+    slab = night_slab.fit;
   }
   const FittedStructure before = fitted_structure(
       wvr::calibrator_structure_function(p.night, p.night.calibrator_phases.phase_rad),
@@ -310,7 +329,7 @@ nlohmann::ordered_json structure_wind_and_advice(const Prepared& p,
                              {"after", after.json},
                              {"before_by_lag", before_by_lag.json},
                              {"after_by_lag", after_by_lag.json}};
-  j["fast_switching"] = fast_switching_json(radiometer, after_by_lag, wind, p.night, o);
+  j["fast_switching"] = fast_switching_json(radiometer, slab, after_by_lag, wind, p.night, o);
   return j;
 }
 
