@@ -35,8 +35,8 @@
 //    independent screen patches; the broken power law then often puts its break at a wiggle
 //    (slopes scattering by 0.3 and more between nights).
 // 2b. The slab model itself, D = D(W) g(d / W), fitted for the equivalent layer thickness W
-//    (fit_slab_thickness): one shape parameter instead of three, so it is far steadier (W
-//    within 10-20 % from six one-hour simulated nights). Its W is the "break length" the
+//    (fit_slab_thickness): one shape parameter instead of three, so it is far steadier (600 m
+//    layer: W = 722 m, +20 %, from six one-hour simulated nights). Its W is the "break length" the
 //    diagnosis reports; slopes are measured in each regime relative to it.
 // 3. Temporal structure function per antenna or per baseline path series vs lag (through
 //    wvr::temporal_structure_function).
@@ -254,10 +254,11 @@ SlabThicknessFit fit_slab_thickness(std::span<const double> separation_m,
 // The slab fit of a night's radiometer structure function with an error from the night itself.
 // The profile interval of SlabThicknessFit only reflects the scatter of the points about the
 // model; the points share one realisation of the screen, whose sample variance dominates on
-// nights of a few hours (simulated: W scatters by 20-30 % between one-hour nights, and the
-// demo night's 2 h give 1.36 km for an 800 m layer). The jackknife over time segments sees
-// part of that variance (demo night: sigma ln W = 0.19), not all of it: scales longer than a
-// segment are shared by every refit.
+// nights of a few hours (simulated one-hour nights of a 600 m layer gave 0.7-1.6 W; a 20-minute
+// night was off by 3.8x; the demo night's 2 h give 1.36 km for an 800 m layer). The jackknife
+// over time segments sees part of that variance (demo night: sigma ln W = 0.20, one hour over
+// a 600 m layer: 0.73 around 941 m), not all of it: scales longer than a segment are shared by
+// every refit.
 struct NightSlabThickness {
   SlabThicknessFit fit;                       // all samples
   double log_thickness_sigma = std::nan("");  // jackknife error of ln W
