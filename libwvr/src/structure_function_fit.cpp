@@ -9,6 +9,7 @@
 #include <numbers>
 #include <sstream>
 
+#include "log_points.hpp"
 #include "wvr/error.hpp"
 #include "wvr/structure_function.hpp"
 
@@ -137,18 +138,9 @@ BrokenPowerLawFit fit_broken_power_law(std::span<const double> separation_m,
                                        std::span<const double> structure_m2,
                                        const BrokenPowerLawOptions& options) {
   options.validate();
-  if (separation_m.size() != structure_m2.size()) {
-    throw InvalidInput("separation_m has " + std::to_string(separation_m.size()) +
-                       " values but structure_m2 has " + std::to_string(structure_m2.size()));
-  }
-  std::vector<double> log_d, log_v;
-  for (std::size_t i = 0; i < separation_m.size(); ++i) {
-    if (separation_m[i] > 0.0 && std::isfinite(separation_m[i]) && structure_m2[i] > 0.0 &&
-        std::isfinite(structure_m2[i])) {
-      log_d.push_back(std::log(separation_m[i]));
-      log_v.push_back(std::log(structure_m2[i]));
-    }
-  }
+  const detail::LogPoints points = detail::log_points(separation_m, structure_m2);
+  const std::vector<double>& log_d = points.log_d;
+  const std::vector<double>& log_v = points.log_v;
   BrokenPowerLawFit fit;
   const std::size_t n = log_d.size();
   fit.points_used = n;
