@@ -16,6 +16,7 @@
 #include "wvr/dispersion.hpp"
 
 #include <cmath>
+#include <memory>
 #include <numbers>
 #include <string>
 
@@ -120,6 +121,14 @@ double wet_path_phase_rad(double path_m, double freq_ghz, double phase_per_path_
   }
   return 2.0 * std::numbers::pi * freq_ghz * 1e9 / constants::speed_of_light_m_per_s * path_m *
          phase_per_path_factor;
+}
+
+std::function<double(double)> site_phase_per_path(const SiteParameters& site) {
+  SiteParameters shape = site;
+  shape.pwv_mm = 1.0;
+  shape.surface_relative_humidity_pct.reset();
+  const auto profile = std::make_shared<const AtmosphereProfile>(make_parametric_profile(shape));
+  return [profile](double freq_ghz) { return wet_phase_per_path_factor(freq_ghz, *profile); };
 }
 
 }  // namespace wvr

@@ -67,10 +67,7 @@ Solved solve(double obs_freq_ghz, const std::string& extra = "", CalibrationOpti
   s.retrieval = retrieve_night(s.night, s.scenario.site.parameters);
   s.coefficients = CoefficientWindows::from_retrieval(s.retrieval);
   s.paths = compute_wvr_paths(s.night, s.coefficients);
-  SiteParameters site = s.scenario.site.parameters;
-  site.pwv_mm = 1.0;
-  const auto profile = std::make_shared<AtmosphereProfile>(make_parametric_profile(site));
-  s.factor = [profile](double f) { return wet_phase_per_path_factor(f, *profile); };
+  s.factor = site_phase_per_path(s.scenario.site.parameters);
   s.calibration = solve_scaling(s.night, s.paths, s.factor, options);
   s.metrics = evaluate_correction(s.night, s.paths, s.calibration.antenna_scale, s.factor);
   return s;
@@ -154,10 +151,7 @@ TEST(Calibration, RecoversTheScaleOfAMisScaledSky) {
     s.retrieval = retrieve_night(s.night, s.scenario.site.parameters);
     s.coefficients = CoefficientWindows::from_retrieval(s.retrieval);
     s.paths = compute_wvr_paths(s.night, s.coefficients);
-    SiteParameters site = s.scenario.site.parameters;
-    site.pwv_mm = 1.0;
-    const auto profile = std::make_shared<AtmosphereProfile>(make_parametric_profile(site));
-    s.factor = [profile](double f) { return wet_phase_per_path_factor(f, *profile); };
+    s.factor = site_phase_per_path(s.scenario.site.parameters);
     s.calibration = solve_scaling(s.night, s.paths, s.factor);
     return s;
   };

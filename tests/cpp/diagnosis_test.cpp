@@ -83,12 +83,7 @@ Diagnosed diagnose(const std::string& text) {
   const NightRetrieval retrieval = retrieve_night(out.night, s.site.parameters);
   const CoefficientWindows coefficients = CoefficientWindows::from_retrieval(retrieval);
   const AntennaPaths paths = compute_wvr_paths(out.night, coefficients);
-  SiteParameters site = s.site.parameters;
-  site.pwv_mm = 1.0;
-  const auto profile = std::make_shared<AtmosphereProfile>(make_parametric_profile(site));
-  const std::function<double(double)> factor = [profile](double f) {
-    return wet_phase_per_path_factor(f, *profile);
-  };
+  const std::function<double(double)> factor = site_phase_per_path(s.site.parameters);
   const CalibrationResult calibration = solve_scaling(out.night, paths, factor);
   const CorrectionMetrics metrics =
       evaluate_correction(out.night, paths, calibration.antenna_scale, factor);

@@ -5,7 +5,6 @@
 
 #include <cmath>
 #include <iostream>
-#include <memory>
 #include <numbers>
 
 #include "test_util.hpp"
@@ -69,11 +68,7 @@ CorrectedNight correct(const std::string& text) {
   const NightRetrieval retrieval = retrieve_night(out.night, scenario.site.parameters);
   const AntennaPaths paths =
       compute_wvr_paths(out.night, CoefficientWindows::from_retrieval(retrieval));
-  SiteParameters site = scenario.site.parameters;
-  const auto profile = std::make_shared<AtmosphereProfile>(make_parametric_profile(site));
-  const std::function<double(double)> factor = [profile](double f) {
-    return wet_phase_per_path_factor(f, *profile);
-  };
+  const std::function<double(double)> factor = site_phase_per_path(scenario.site.parameters);
   const CalibrationResult calibration = solve_scaling(out.night, paths, factor);
   out.metrics = evaluate_correction(out.night, paths, calibration.antenna_scale, factor);
   return out;
@@ -129,7 +124,9 @@ TEST(FastSwitchingNight, CorrectedCalibratorPhasesGiveTheResidualStructureAndAdv
               << " m): measured " << after.estimate.value_m2[l] << " m^2, true dry " << truth
               << " m^2\n";
     // At 1 s the radiometer and thermal noise floors (~5e-11 m^2) are a third of the signal.
-    if (after.lag_s[l] >= 2.0) EXPECT_NEAR(after.estimate.value_m2[l] / truth, 1.0, 0.15);
+    if (after.lag_s[l] >= 2.0) {
+      EXPECT_NEAR(after.estimate.value_m2[l] / truth, 1.0, 0.15);
+    }
   }
   // The Holdaway rule on the measured residual against switching on the true residual.
   const BrokenPowerLawFit fit =

@@ -1,7 +1,5 @@
 #include "pipeline.hpp"
 
-#include <memory>
-
 #include "wvr/dispersion.hpp"
 #include "wvr/error.hpp"
 #include "wvr/night_file.hpp"
@@ -49,14 +47,7 @@ Prepared prepare(const CommonOptions& o) {
     p.new_groups.push_back(wvr::to_result_group(p.retrieval, p.night));
   }
   p.coefficients = wvr::CoefficientWindows::from_retrieval(p.retrieval);
-  // Dispersion of the site's wet refractivity (a ratio, independent of the vapour column).
-  wvr::SiteParameters site = p.site.parameters;
-  site.pwv_mm = 1.0;
-  site.surface_relative_humidity_pct.reset();
-  auto profile = std::make_shared<wvr::AtmosphereProfile>(wvr::make_parametric_profile(site));
-  p.phase_per_path = [profile](double freq_ghz) {
-    return wvr::wet_phase_per_path_factor(freq_ghz, *profile);
-  };
+  p.phase_per_path = wvr::site_phase_per_path(p.site.parameters);
   p.paths = wvr::compute_wvr_paths(p.night, p.coefficients);
   return p;
 }

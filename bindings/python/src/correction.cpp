@@ -6,7 +6,6 @@
 #include <pybind11/stl.h>
 
 #include <functional>
-#include <memory>
 #include <optional>
 
 #include "arrays.hpp"
@@ -19,15 +18,6 @@
 
 namespace wvr::python {
 namespace {
-
-// The wet phase-per-path (dispersion) factor of the site's atmosphere, as skyphase uses it.
-std::function<double(double)> dispersion_of(const SiteConfig& site_config) {
-  SiteParameters site = site_config.parameters;
-  site.pwv_mm = 1.0;  // a ratio: independent of the vapour column
-  site.surface_relative_humidity_pct.reset();
-  auto profile = std::make_shared<AtmosphereProfile>(make_parametric_profile(site));
-  return [profile](double freq_ghz) { return wet_phase_per_path_factor(freq_ghz, *profile); };
-}
 
 template <typename T>
 py::array owned(std::vector<T> values, const std::vector<py::ssize_t>& shape) {
@@ -87,7 +77,7 @@ py::dict solve(const Night& night,
   options.reference_antenna = reference_antenna;
   options.validate();
   const AntennaPaths paths = paths_of(night, retrieval);
-  const auto factor = dispersion_of(site);
+  const auto factor = site_phase_per_path(site.parameters);
   CalibrationResult r;
   {
     py::gil_scoped_release release;
@@ -130,7 +120,7 @@ py::dict correct(const Night& night,
   if (retrieval.antennas != na || retrieval.channels != night.channel_count()) {
     paths_of(night, retrieval);  // throws the mismatch
   }
-  const auto factor = dispersion_of(site);
+  const auto factor = site_phase_per_path(site.parameters);
   PhaseCorrections c;
   CorrectionMetrics m;
   {

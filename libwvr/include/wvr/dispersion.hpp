@@ -7,6 +7,8 @@
 // line widths as the absorption (wvr/absorption.hpp): N_disp(f) = N'(f) - N'(0), so it
 // vanishes at low frequency by construction.
 
+#include <functional>
+
 #include "wvr/absorption.hpp"
 #include "wvr/atmosphere.hpp"
 
@@ -19,6 +21,12 @@ double dispersive_wet_refractivity(double freq_ghz, const GasState& state);
 // the non-dispersive wet refractivity N_w), so that the wet phase is
 // (2 pi nu / c) * L_wet * factor.
 double wet_phase_per_path_factor(double freq_ghz, const AtmosphereProfile& profile);
+
+// The phase_per_path factor as a function of frequency for a site's parametric atmosphere,
+// as calibration, correction and diagnosis use it. The factor is a ratio of integrals over the
+// vapour profile, so the site's PWV and humidity do not enter (1 mm is used); the profile is
+// built once and shared by the copies of the function.
+std::function<double(double)> site_phase_per_path(const SiteParameters& site);
 
 // Phase (rad) of a wet path at freq_ghz: 2 pi nu / c * path_m * factor.
 double wet_path_phase_rad(double path_m, double freq_ghz, double phase_per_path_factor);
