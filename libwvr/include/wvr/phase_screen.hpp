@@ -136,10 +136,10 @@ ScreenGrid plan_screen_grid(const TurbulentLayer& layer,
 // the grid's fundamental are added with the subharmonic method of Lane, Glindemann & Dainty
 // 1992 (Waves in Random Media 2, 209), extended to the kx = 0 / ky = 0 lines of long strips,
 // with integrated powers for the cells next to kappa = 0 (details in
-// libwvr/src/phase_screen_generate.cpp). Deterministic for a given seed (std::mt19937_64 with
-// our own Box-Muller transform, so no library-specific distribution is involved).
-// Cost: ~100 ns and 12 bytes per grid point while generating, 4 bytes kept; a 64-antenna,
-// 8-hour night at 10 m/s with 10 m spacing is a 30000 x 720 grid (~2 s, 86 MB kept).
+// libwvr/src/simulation/phase_screen_generate.cpp). Deterministic for a given seed (std::mt19937_64
+// with our own Box-Muller transform, so no library-specific distribution is involved). Cost: ~100
+// ns and 12 bytes per grid point while generating, 4 bytes kept; a 64-antenna, 8-hour night at 10
+// m/s with 10 m spacing is a 30000 x 720 grid (~2 s, 86 MB kept).
 //
 // Coverage: the FFT part of the field is periodic over the grid, the subharmonics are not.
 // Points outside the grid wrap around periodically in path_m() (the field then repeats with a

@@ -1,0 +1,491 @@
+#include "wvr/diagnosis.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <map>
+#include <numbers>
+#include <sstream>
+
+#include "core/statistics.hpp"
+#include "diagnosis/residual_trend.hpp"
+#include "wvr/constants.hpp"
+#include "wvr/error.hpp"
+
+namespace wvr {
+
+std::string to_string(Verdict verdict) {
+  switch (verdict) {
+    case Verdict::kCorrected:
+      return "corrected";
+    case Verdict::kQuietSky:
+      return "quiet sky";
+    case Verdict::kDryTurbulence:
+      return "dry turbulence";
+    case Verdict::kCloud:
+      return "cloud";
+    case Verdict::kRadiometerFault:
+      return "radiometer fault";
+    case Verdict::kScaleOff:
+      return "scale off";
+    case Verdict::kCannotJudge:
+      return "cannot judge";
+  }
+  return "unknown";
+}
+
+std::string describe_antenna_faults(std::uint8_t faults) {
+  static const std::pair<std::uint8_t, const char*> kNames[] = {
+      {kFaultNoData, "no data"},
+      {kFaultStuckChannel, "stuck channel"},
+      {kFaultSpikes, "spikes"},
+      {kFaultInconsistent, "channels inconsistent"},
+      {kFaultWorseResidual, "residual worse than neighbours"}};
+  std::string out;
+  for (const auto& [bit, name] : kNames) {
+    if ((faults & bit) == 0) continue;
+    if (!out.empty()) out += ", ";
+    out += name;
+  }
+  return out.empty() ? "ok" : out;
+}
+
+void DiagnosisThresholds::validate() const {
+  require_in_range("cloud_chi2_per_dof", cloud_chi2_per_dof, 1.0, 1e6);
+  require_in_range("cloud_antenna_fraction", cloud_antenna_fraction, 0.0, 1.0);
+  require_in_range("quiet_floor_ratio", quiet_floor_ratio, 1.0, 100.0);
+  require_in_range("dry_floor_ratio", dry_floor_ratio, 1.0, 100.0);
+  require_in_range("scale_min_correlation", scale_min_correlation, 0.0, 1.0);
+  require_in_range("scale_tolerance", scale_tolerance, 0.0, 10.0);
+  require_in_range("fault_unusable_fraction", fault_unusable_fraction, 0.0, 1.0);
+  require_in_range("stuck_noise_fraction", stuck_noise_fraction, 0.0, 10.0);
+  require_in_range("spike_chi2_per_dof", spike_chi2_per_dof, 1.0, 1e9);
+  require_in_range("spike_fraction", spike_fraction, 0.0, 1.0);
+  require_in_range("fault_chi2_ratio", fault_chi2_ratio, 1.0, 1e6);
+  require_in_range("fault_residual_ratio", fault_residual_ratio, 1.0, 1e6);
+}
+
+namespace {
+
+constexpr double kTwoPi = 2.0 * std::numbers::pi;
+constexpr double kDeg = 180.0 / std::numbers::pi;
+
+// Statistics of one baseline in one calibrator scan.
+struct BaselineWindow {
+  std::size_t a = 0, b = 0, n = 0;
+  double rms_before = 0, rms_after = 0, floor = 0, correlation = 0, slope = 0, predicted_rms = 0;
+  double rms_refit = 0;  // scatter left after rescaling the prediction by `slope`
+};
+
+// Radiometer-only evidence for antenna a over samples [k0, k1).
+std::uint8_t antenna_radiometer_faults(const Night& night,
+                                       const NightRetrieval& r,
+                                       std::size_t a,
+                                       std::size_t k0,
+                                       std::size_t k1,
+                                       double array_chi2,
+                                       const DiagnosisThresholds& th,
+                                       double& chi2_median) {
+  const std::size_t nt = night.time_count(), nc = night.channel_count();
+  std::uint8_t faults = 0;
+  std::size_t unusable = 0, spikes = 0;
+  std::vector<double> chi2;
+  std::vector<double> sum(nc, 0.0), sum2(nc, 0.0);
+  std::size_t n = 0;
+  for (std::size_t k = k0; k < k1; ++k) {
+    if (r.flags[a * nt + k] & kRetrievalUnusable) {
+      ++unusable;
+      continue;
+    }
+    const double c = r.chi2_per_dof[a * nt + k];
+    chi2.push_back(c);
+    if (c > th.spike_chi2_per_dof) ++spikes;
+    for (std::size_t ch = 0; ch < nc; ++ch) {
+      const double v = night.radiometer.brightness_k[(a * nt + k) * nc + ch];
+      sum[ch] += v;
+      sum2[ch] += v * v;
+    }
+    ++n;
+  }
+  const std::size_t total = k1 - k0;
+  chi2_median = detail::finite_median(chi2);
+  if (total > 0 &&
+      static_cast<double>(unusable) > th.fault_unusable_fraction * static_cast<double>(total))
+    faults |= kFaultNoData;
+  if (n > 10) {
+    for (std::size_t ch = 0; ch < nc; ++ch) {
+      const double mean = sum[ch] / static_cast<double>(n);
+      const double var = std::max(0.0, sum2[ch] / static_cast<double>(n) - mean * mean);
+      const double noise = night.radiometer.config.channels[ch].noise_k;
+      if (noise > 0.0 && std::sqrt(var) < th.stuck_noise_fraction * noise)
+        faults |= kFaultStuckChannel;
+    }
+    if (static_cast<double>(spikes) > th.spike_fraction * static_cast<double>(n) &&
+        chi2_median < th.cloud_chi2_per_dof) {
+      faults |= kFaultSpikes;
+    }
+  }
+  if (std::isfinite(chi2_median) && std::isfinite(array_chi2) &&
+      chi2_median > th.fault_chi2_ratio * array_chi2 && chi2_median > 0.5 * th.cloud_chi2_per_dof) {
+    faults |= kFaultInconsistent;
+  }
+  return faults;
+}
+
+}  // namespace
+
+NightDiagnosis diagnose_night(const Night& night,
+                              const NightRetrieval& r,
+                              const AntennaPaths& paths,
+                              const CorrectionMetrics& metrics,
+                              const std::function<double(double)>& phase_per_path,
+                              const DiagnosisThresholds& th) {
+  th.validate();
+  const std::size_t na = night.antenna_count(), nt = night.time_count();
+  if (r.antennas != na || r.samples != nt || paths.antennas != na || paths.time_s.size() != nt) {
+    throw InvalidInput(
+        "diagnosis: retrieval and paths do not match the night's antennas and samples");
+  }
+  const CalibratorPhases& cp = night.calibrator_phases;
+  if (metrics.corrected_phase_rad.size() != cp.time_s.size()) {
+    throw InvalidInput(
+        "diagnosis: corrected phases do not match the night's calibrator phase rows");
+  }
+  NightDiagnosis d;
+  d.antenna_names = night.array.antenna_names;
+  d.thresholds = th;
+  if (cp.time_s.empty())
+    d.notes.push_back("no calibrator phases: phase-based verdicts cannot be judged");
+  if (na < 2)
+    d.notes.push_back("a single antenna: no baselines, phase-based verdicts cannot be judged");
+  const auto& times = night.radiometer.time_s;
+  auto sample_index = [&](double t) {
+    return static_cast<std::size_t>(std::lower_bound(times.begin(), times.end(), t) -
+                                    times.begin());
+  };
+  // Rows of each scan.
+  std::vector<std::vector<std::size_t>> scan_rows(night.scans.size());
+  {
+    std::size_t s = 0;
+    for (std::size_t i = 0; i < cp.time_s.size(); ++i) {
+      while (s < night.scans.size() && night.scans[s].stop_s <= cp.time_s[i]) ++s;
+      if (s < night.scans.size() && cp.time_s[i] >= night.scans[s].start_s)
+        scan_rows[s].push_back(i);
+    }
+  }
+  std::map<double, double> k_cache;
+  auto k_of = [&](double f) {
+    auto it = k_cache.find(f);
+    if (it == k_cache.end()) {
+      it = k_cache
+               .emplace(f, kTwoPi * f * 1e9 / constants::speed_of_light_m_per_s * 1e-3 *
+                               phase_per_path(f))
+               .first;
+    }
+    return it->second;
+  };
+  for (std::size_t s = 0; s < night.scans.size(); ++s) {
+    const Scan& scan = night.scans[s];
+    WindowDiagnosis w;
+    w.start_s = scan.start_s;
+    w.stop_s = scan.stop_s;
+    w.calibrator = scan.intent == ScanIntent::kCalibrator;
+    w.antenna_faults.assign(na, 0);
+    const std::size_t k0 = sample_index(scan.start_s), k1 = sample_index(scan.stop_s);
+    // Radiometer evidence: chi2 per antenna, then faults against the array median.
+    std::vector<double> chi2(na, std::nan(""));
+    double unused = 0.0;
+    for (std::size_t a = 0; a < na; ++a)
+      antenna_radiometer_faults(night, r, a, k0, k1, std::nan(""), th, chi2[a]);
+    const double array_chi2 = detail::finite_median(chi2);
+    std::size_t cloudy = 0, judged = 0;
+    for (std::size_t a = 0; a < na; ++a) {
+      w.antenna_faults[a] = antenna_radiometer_faults(night, r, a, k0, k1, array_chi2, th, unused);
+      if (std::isfinite(chi2[a])) {
+        ++judged;
+        if (chi2[a] > th.cloud_chi2_per_dof) ++cloudy;
+      }
+    }
+    w.chi2_per_dof = array_chi2;
+    const bool cloud = judged > 0 && static_cast<double>(cloudy) >=
+                                         th.cloud_antenna_fraction * static_cast<double>(judged);
+    if (cloud) {
+      // A cloud raises every antenna's chi2: not an antenna fault.
+      for (auto& f : w.antenna_faults) f &= static_cast<std::uint8_t>(~kFaultInconsistent);
+    }
+    // Phase evidence per baseline.
+    std::map<std::pair<std::size_t, std::size_t>, std::vector<std::size_t>> by_baseline;
+    for (std::size_t i : scan_rows[s]) {
+      const auto [a, b] = cp.antenna_pair[i];
+      if (a < 0 || b < 0 || static_cast<std::size_t>(a) >= na || static_cast<std::size_t>(b) >= na)
+        continue;
+      if (!std::isfinite(metrics.corrected_phase_rad[i])) continue;
+      by_baseline[{static_cast<std::size_t>(a), static_cast<std::size_t>(b)}].push_back(i);
+    }
+    std::vector<BaselineWindow> baselines;
+    for (const auto& [pair, rows] : by_baseline) {
+      if (rows.size() < 5) continue;
+      BaselineWindow bw;
+      bw.a = pair.first;
+      bw.b = pair.second;
+      bw.n = rows.size();
+      double cb = 0, sb = 0, ca = 0, sa = 0;
+      for (std::size_t i : rows) {
+        cb += std::cos(cp.phase_rad[i]);
+        sb += std::sin(cp.phase_rad[i]);
+        ca += std::cos(metrics.corrected_phase_rad[i]);
+        sa += std::sin(metrics.corrected_phase_rad[i]);
+      }
+      const double mean_before = std::atan2(sb, cb), mean_after = std::atan2(sa, ca);
+      std::vector<double> obs, pred;
+      double s2b = 0, s2a = 0, sd = 0, prev = std::nan("");
+      std::size_t nd = 0;
+      for (std::size_t i : rows) {
+        const double db = std::remainder(cp.phase_rad[i] - mean_before, kTwoPi);
+        const double da = std::remainder(metrics.corrected_phase_rad[i] - mean_after, kTwoPi);
+        s2b += db * db;
+        s2a += da * da;
+        if (std::isfinite(prev)) {
+          const double step = std::remainder(da - prev, kTwoPi);
+          sd += step * step;
+          ++nd;
+        }
+        prev = da;
+        obs.push_back(db);
+        // Predicted = observed minus corrected (the radiometer phase), wrapped about its mean.
+        pred.push_back(std::remainder(cp.phase_rad[i] - metrics.corrected_phase_rad[i], kTwoPi));
+      }
+      double pm = 0.0;
+      for (double p : pred) pm += p;
+      pm /= static_cast<double>(pred.size());
+      double sxy = 0, sxx = 0, syy = 0;
+      for (std::size_t j = 0; j < pred.size(); ++j) {
+        const double x = std::remainder(pred[j] - pm, kTwoPi);
+        sxy += x * obs[j];
+        sxx += x * x;
+        syy += obs[j] * obs[j];
+      }
+      bw.rms_before = std::sqrt(s2b / static_cast<double>(bw.n));
+      bw.rms_after = std::sqrt(s2a / static_cast<double>(bw.n));
+      bw.floor = nd > 0 ? std::sqrt(sd / static_cast<double>(nd) / 2.0) : std::nan("");
+      bw.correlation = sxx > 0 && syy > 0 ? sxy / std::sqrt(sxx * syy) : std::nan("");
+      bw.slope = sxx > 0 ? sxy / sxx : std::nan("");
+      double s2r = 0.0;
+      for (std::size_t j = 0; j < pred.size(); ++j) {
+        const double x = std::remainder(pred[j] - pm, kTwoPi);
+        s2r += (obs[j] - bw.slope * x) * (obs[j] - bw.slope * x);
+      }
+      bw.rms_refit = std::sqrt(s2r / static_cast<double>(bw.n));
+      const double k = k_of(cp.freq_ghz[rows.front()]);
+      bw.predicted_rms = std::sqrt(sxx / static_cast<double>(bw.n)) / k * 1000.0;  // um
+      baselines.push_back(bw);
+    }
+    // Antennas whose residual stands out (reference-mode rows name the antenna by baseline).
+    // What is left after correction (dry air, mostly) grows with baseline length, so each
+    // baseline is compared with the array's trend at its length, not with the array median:
+    // otherwise the longest baselines would look faulty whenever dry turbulence is up.
+    std::vector<detail::BaselineResidual> residuals;
+    std::vector<double> per_antenna_after(na, std::nan(""));
+    {
+      std::vector<std::vector<double>> values(na);
+      for (const BaselineWindow& bw : baselines) {
+        const auto& pa = night.array.position_enu_m[bw.a];
+        const auto& pb = night.array.position_enu_m[bw.b];
+        residuals.push_back({bw.a, bw.b, std::hypot(pb[0] - pa[0], pb[1] - pa[1]), bw.rms_after});
+        values[bw.a].push_back(bw.rms_after);
+        values[bw.b].push_back(bw.rms_after);
+      }
+      for (std::size_t a = 0; a < na; ++a) per_antenna_after[a] = detail::finite_median(values[a]);
+    }
+    const std::vector<double> per_antenna_excess =
+        detail::residual_excess(residuals, na, th.fault_residual_ratio);
+    for (std::size_t a = 0; a < na; ++a) {
+      std::vector<double> others;
+      for (const BaselineWindow& bw : baselines) {
+        if (bw.a != a && bw.b != a) others.push_back(bw.floor);
+      }
+      const double floor_ref = detail::finite_median(others);
+      if (std::isfinite(per_antenna_excess[a]) && per_antenna_excess[a] > th.fault_residual_ratio &&
+          per_antenna_after[a] > th.dry_floor_ratio * floor_ref) {
+        // In reference mode every baseline contains the reference antenna: only flag it when
+        // most baselines are bad, which the array statistics below then show instead.
+        std::size_t containing = 0;
+        for (const BaselineWindow& bw : baselines) containing += (bw.a == a || bw.b == a);
+        if (containing < baselines.size()) w.antenna_faults[a] |= kFaultWorseResidual;
+      }
+    }
+    // Array statistics over baselines of healthy antennas.
+    std::vector<double> before, after, floors, corr, slopes, pred_rms, refit;
+    for (const BaselineWindow& bw : baselines) {
+      if (w.antenna_faults[bw.a] || w.antenna_faults[bw.b]) continue;
+      before.push_back(bw.rms_before);
+      after.push_back(bw.rms_after);
+      floors.push_back(bw.floor);
+      corr.push_back(bw.correlation);
+      slopes.push_back(bw.slope);
+      pred_rms.push_back(bw.predicted_rms);
+      refit.push_back(bw.rms_refit);
+    }
+    const double refit_deg = detail::finite_median(refit) * kDeg;
+    w.rms_before_deg = detail::finite_median(before) * kDeg;
+    w.rms_after_deg = detail::finite_median(after) * kDeg;
+    w.floor_deg = detail::finite_median(floors) * kDeg;
+    w.improvement_factor = w.rms_before_deg / w.rms_after_deg;
+    w.correlation = detail::finite_median(corr);
+    w.slope = detail::finite_median(slopes);
+    w.radiometer_path_rms_um = detail::finite_median(pred_rms);
+    bool any_fault = false;
+    for (std::uint8_t f : w.antenna_faults) any_fault |= f != 0;
+    std::ostringstream reason;
+    reason.precision(3);
+    if (judged == 0) {
+      w.verdict = Verdict::kCannotJudge;
+      reason << "no usable radiometer sample";
+    } else if (cloud) {
+      w.verdict = Verdict::kCloud;
+      reason << cloudy << " of " << judged << " antennas have retrieval chi2/dof above "
+             << th.cloud_chi2_per_dof << " (median " << array_chi2 << ")";
+    } else if (!w.calibrator || baselines.empty()) {
+      w.verdict = any_fault ? Verdict::kRadiometerFault : Verdict::kCannotJudge;
+      reason << (w.calibrator ? "no usable calibrator phases" : "target scan");
+      if (any_fault) reason << "; radiometer evidence flags antennas";
+    } else if (w.rms_before_deg < th.quiet_floor_ratio * w.floor_deg) {
+      w.verdict = any_fault ? Verdict::kRadiometerFault : Verdict::kQuietSky;
+      reason << "phase rms before " << w.rms_before_deg << " deg is within " << th.quiet_floor_ratio
+             << " x the floor " << w.floor_deg << " deg";
+    } else if (w.correlation > th.scale_min_correlation &&
+               std::abs(w.slope - 1.0) > th.scale_tolerance &&
+               refit_deg <= th.dry_floor_ratio * w.floor_deg) {
+      w.verdict = Verdict::kScaleOff;
+      reason << "correlation " << w.correlation << " but observed/predicted slope " << w.slope
+             << "; rescaled, the residual " << refit_deg << " deg is within " << th.dry_floor_ratio
+             << " x the floor";
+    } else if (w.rms_after_deg > th.dry_floor_ratio * w.floor_deg) {
+      w.verdict = Verdict::kDryTurbulence;
+      reason << "residual " << w.rms_after_deg << " deg is above " << th.dry_floor_ratio
+             << " x the floor " << w.floor_deg << " deg; radiometers see "
+             << w.radiometer_path_rms_um << " um rms, correlation " << w.correlation;
+    } else if (any_fault) {
+      w.verdict = Verdict::kRadiometerFault;
+      reason << "array corrected to " << w.rms_after_deg << " deg (floor " << w.floor_deg
+             << " deg) apart from flagged antennas";
+    } else {
+      w.verdict = Verdict::kCorrected;
+      reason << "phase rms " << w.rms_before_deg << " -> " << w.rms_after_deg << " deg (floor "
+             << w.floor_deg << " deg), correlation " << w.correlation;
+    }
+    if (any_fault) {
+      reason << "; flagged:";
+      for (std::size_t a = 0; a < na; ++a) {
+        if (w.antenna_faults[a])
+          reason << " " << night.array.antenna_names[a] << " ("
+                 << describe_antenna_faults(w.antenna_faults[a]) << ")";
+      }
+    }
+    w.reason = reason.str();
+    d.windows.push_back(std::move(w));
+  }
+  // Antenna faults persist: a window between two windows that flag the same antenna is
+  // flagged too (intermittent faults such as spikes need not show in every short scan).
+  for (std::size_t a = 0; a < na; ++a) {
+    for (std::size_t i = 1; i + 1 < d.windows.size(); ++i) {
+      WindowDiagnosis& w = d.windows[i];
+      const std::uint8_t around =
+          d.windows[i - 1].antenna_faults[a] & d.windows[i + 1].antenna_faults[a];
+      if (around == 0 || (w.antenna_faults[a] & around) == around) continue;
+      w.antenna_faults[a] |= around;
+      if (w.verdict == Verdict::kCorrected || w.verdict == Verdict::kQuietSky ||
+          w.verdict == Verdict::kCannotJudge) {
+        w.verdict = Verdict::kRadiometerFault;
+      }
+      w.reason += "; " + night.array.antenna_names[a] + " flagged between faulty windows (" +
+                  describe_antenna_faults(around) + ")";
+    }
+  }
+  // Target scans inherit the phase-based verdict of the neighbouring calibrator scans when
+  // their own (radiometer-only) evidence shows nothing.
+  for (std::size_t i = 0; i < d.windows.size(); ++i) {
+    WindowDiagnosis& w = d.windows[i];
+    if (w.calibrator || w.verdict != Verdict::kCannotJudge) continue;
+    const WindowDiagnosis* before = nullptr;
+    const WindowDiagnosis* after = nullptr;
+    for (std::size_t j = i; j-- > 0;) {
+      if (d.windows[j].calibrator) {
+        before = &d.windows[j];
+        break;
+      }
+    }
+    for (std::size_t j = i + 1; j < d.windows.size(); ++j) {
+      if (d.windows[j].calibrator) {
+        after = &d.windows[j];
+        break;
+      }
+    }
+    // A neighbour judged only by its antenna faults says nothing about the sky: use the other.
+    auto sky_verdict = [](const WindowDiagnosis* n) {
+      return n != nullptr && n->verdict != Verdict::kRadiometerFault &&
+             n->verdict != Verdict::kCannotJudge;
+    };
+    const WindowDiagnosis* source =
+        sky_verdict(before) ? before : (sky_verdict(after) ? after : nullptr);
+    if (sky_verdict(before) && sky_verdict(after) && after->verdict != Verdict::kCorrected &&
+        after->verdict != Verdict::kQuietSky) {
+      source = after;  // a problem starting in the next calibrator scan covers this target scan
+    }
+    if (source == nullptr) continue;
+    w.verdict = source->verdict;
+    w.inherited = true;
+    w.reason = "inherited from the calibrator scan at " +
+               std::to_string(static_cast<long>(source->start_s)) +
+               " s (radiometer-only evidence shows no cloud or antenna fault)";
+  }
+  return d;
+}
+
+ResultGroup diagnosis_result_group(const NightDiagnosis& d) {
+  ResultGroup g;
+  g.stage = "diagnosis";
+  std::ostringstream codes;
+  for (int v = 0; v <= static_cast<int>(Verdict::kCannotJudge); ++v) {
+    codes << (v ? ", " : "") << v << " " << to_string(static_cast<Verdict>(v));
+  }
+  g.attributes["verdict_codes"] = codes.str();
+  g.attributes["antenna_fault_bits"] =
+      "1 no data, 2 stuck channel, 4 spikes, 8 channels inconsistent, 16 residual worse than "
+      "neighbours";
+  const std::size_t nw = d.windows.size(), na = d.antenna_names.size();
+  std::vector<double> start, stop, before, after, floor, corr, slope, chi2, path;
+  std::vector<std::uint8_t> verdict, calibrator, inherited, faults;
+  for (const WindowDiagnosis& w : d.windows) {
+    start.push_back(w.start_s);
+    stop.push_back(w.stop_s);
+    verdict.push_back(static_cast<std::uint8_t>(w.verdict));
+    calibrator.push_back(w.calibrator);
+    inherited.push_back(w.inherited);
+    before.push_back(w.rms_before_deg);
+    after.push_back(w.rms_after_deg);
+    floor.push_back(w.floor_deg);
+    corr.push_back(w.correlation);
+    slope.push_back(w.slope);
+    chi2.push_back(w.chi2_per_dof);
+    path.push_back(w.radiometer_path_rms_um);
+  }
+  for (std::size_t a = 0; a < na; ++a) {
+    for (const WindowDiagnosis& w : d.windows) faults.push_back(w.antenna_faults[a]);
+  }
+  g.datasets.push_back({"window_start_s", {nw}, start, "s", {}});
+  g.datasets.push_back({"window_stop_s", {nw}, stop, "s", {}});
+  g.datasets.push_back({"verdict", {nw}, verdict, "1", {}});
+  g.datasets.push_back({"calibrator", {nw}, calibrator, "1", {}});
+  g.datasets.push_back({"inherited", {nw}, inherited, "1", {}});
+  g.datasets.push_back({"phase_rms_before_deg", {nw}, before, "deg", {}});
+  g.datasets.push_back({"phase_rms_after_deg", {nw}, after, "deg", {}});
+  g.datasets.push_back({"floor_deg", {nw}, floor, "deg", {}});
+  g.datasets.push_back({"correlation", {nw}, corr, "1", {}});
+  g.datasets.push_back({"slope", {nw}, slope, "1", {}});
+  g.datasets.push_back({"chi2_per_dof", {nw}, chi2, "1", {}});
+  g.datasets.push_back({"radiometer_path_rms_um", {nw}, path, "um", {}});
+  g.datasets.push_back({"antenna_faults", {na, nw}, faults, "1", {}});
+  return g;
+}
+
+}  // namespace wvr

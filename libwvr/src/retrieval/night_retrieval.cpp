@@ -1,0 +1,358 @@
+#include "wvr/night_retrieval.hpp"
+
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <map>
+#include <memory>
+#include <thread>
+#include <type_traits>
+#include <variant>
+
+#include "core/statistics.hpp"
+#include "wvr/error.hpp"
+#include "wvr/fast_sky_model.hpp"
+
+namespace wvr {
+
+std::string describe_retrieval_flags(std::uint8_t flags) {
+  if (flags == 0) return "ok";
+  static const std::pair<std::uint8_t, const char*> kNames[] = {
+      {kFlagInvalidInFile, "invalid in file"}, {kFlagBadBrightness, "bad brightness"},
+      {kFlagOutOfDomain, "out of domain"},     {kFlagNoWeather, "no weather"},
+      {kFlagFitFailed, "fit failed"},          {kFlagNoValidSamples, "no valid samples"}};
+  std::string out;
+  for (const auto& [bit, name] : kNames) {
+    if ((flags & bit) == 0) continue;
+    if (!out.empty()) out += ", ";
+    out += name;
+  }
+  return out;
+}
+
+void NightRetrievalOptions::validate() const {
+  require_in_range("coefficient_window_s", coefficient_window_s, 1e-3, 86400.0, "s");
+  window_fit.validate();
+  if (threads < 0) throw InvalidInput("threads = " + std::to_string(threads) + " is negative");
+}
+
+namespace {
+
+// Surface temperature at each radiometer time from the weather series (linear, held at the
+// ends); empty when the night has no weather.
+std::vector<double> surface_temperature_at(const Night& night) {
+  const NightWeather& w = night.weather;
+  std::vector<double> out;
+  if (w.time_s.empty()) return out;
+  out.reserve(night.time_count());
+  std::size_t j = 0;
+  for (double t : night.radiometer.time_s) {
+    while (j + 1 < w.time_s.size() && w.time_s[j + 1] <= t) ++j;
+    if (t <= w.time_s.front() || j + 1 >= w.time_s.size()) {
+      out.push_back(t <= w.time_s.front() ? w.temperature_k.front() : w.temperature_k.back());
+      continue;
+    }
+    const double f = (t - w.time_s[j]) / (w.time_s[j + 1] - w.time_s[j]);
+    out.push_back((1 - f) * w.temperature_k[j] + f * w.temperature_k[j + 1]);
+  }
+  return out;
+}
+
+}  // namespace
+
+NightRetrieval retrieve_night(const Night& night,
+                              const SiteParameters& site_in,
+                              const NightRetrievalOptions& options) {
+  options.validate();
+  const auto start = std::chrono::steady_clock::now();
+  const std::size_t na = night.antenna_count(), nt = night.time_count(), nc = night.channel_count();
+  if (na == 0 || nt == 0 || nc == 0) {
+    throw InvalidInput("night has no radiometer data (antennas " + std::to_string(na) +
+                       ", samples " + std::to_string(nt) + ", channels " + std::to_string(nc) +
+                       ")");
+  }
+  SiteParameters site = site_in;
+  site.pwv_mm = 1.0;
+  site.surface_relative_humidity_pct.reset();
+  const RadiometerConfig& radiometer = night.radiometer.config;
+  std::vector<double> noise;
+  for (const RadiometerChannel& c : radiometer.channels) noise.push_back(std::max(c.noise_k, 1e-3));
+
+  std::vector<double> surface_t = surface_temperature_at(night);
+  const bool have_weather = !surface_t.empty();
+  if (!have_weather) surface_t.assign(nt, site.surface_temperature_k);
+  const auto [t_min_it, t_max_it] = std::minmax_element(surface_t.begin(), surface_t.end());
+  const double t_lo = std::floor(*t_min_it) - 1.0, t_hi = std::ceil(*t_max_it) + 1.0;
+
+  PwvTableOptions table_options = options.table;
+  table_options.min_surface_temperature_k = t_lo;
+  table_options.max_surface_temperature_k = t_hi;
+  const PwvTable table(site, radiometer, table_options);
+
+  // Full-fit models every 1 K: the window fit uses the nearest and the linear temperature term
+  // for the remaining < 0.5 K.
+  std::vector<std::unique_ptr<FastSkyModel>> models;
+  FastSkyModelOptions fast_options;
+  for (double t = t_lo; t <= t_hi + 1e-9; t += 1.0) {
+    SiteParameters s = site;
+    s.surface_temperature_k = t;
+    models.push_back(std::make_unique<FastSkyModel>(make_parametric_profile(s), radiometer,
+                                                    SkyModel(), fast_options));
+  }
+
+  NightRetrieval out;
+  out.antennas = na;
+  out.samples = nt;
+  out.channels = nc;
+  const double t0 = night.radiometer.time_s.front();
+  const double t_end = night.radiometer.time_s.back();
+  const double window = options.coefficient_window_s;
+  const std::size_t nw = static_cast<std::size_t>(std::floor((t_end - t0) / window)) + 1;
+  out.windows = nw;
+  for (std::size_t w = 0; w < nw; ++w) {
+    out.window_start_s.push_back(t0 + window * static_cast<double>(w));
+    out.window_stop_s.push_back(t0 + window * static_cast<double>(w + 1));
+  }
+  out.pwv_mm.assign(na * nt, std::nan(""));
+  out.pwv_sigma_mm.assign(na * nt, std::nan(""));
+  out.chi2_per_dof.assign(na * nt, std::nan(""));
+  out.flags.assign(na * nt, 0);
+  out.window_pwv_mm.assign(na * nw, std::nan(""));
+  out.window_pwv_sigma_mm.assign(na * nw, std::nan(""));
+  out.window_chi2_per_dof.assign(na * nw, std::nan(""));
+  out.window_liquid_kg_m2.assign(na * nw, 0.0);
+  out.window_flags.assign(na * nw, 0);
+  out.path_sensitivity_k_per_mm.assign(na * nw * nc, std::nan(""));
+  out.combination_weight_mm_per_k.assign(na * nw * nc, std::nan(""));
+  out.path_noise_mm.assign(na * nw, std::nan(""));
+  out.window_model_brightness_k.assign(na * nw * nc, std::nan(""));
+  out.window_wet_path_mm.assign(na * nw, std::nan(""));
+  out.window_elevation_deg.assign(na * nw, std::nan(""));
+
+  // Per thread and temperature node: a retriever and a model workspace.
+  struct NodeTools {
+    Retriever retriever;
+    FastSkyModel::Workspace workspace;
+  };
+  auto process_antenna = [&](std::size_t a, std::map<std::size_t, NodeTools>& tools) {
+    const std::span<const double> tb = night.antenna_brightness_k(a);
+    const std::span<const std::uint8_t> valid = night.antenna_valid(a);
+    const double dof = nc > 1 ? static_cast<double>(nc - 1) : 1.0;
+    for (std::size_t k = 0; k < nt; ++k) {
+      std::uint8_t& flag = out.flags[a * nt + k];
+      if (!have_weather) flag |= kFlagNoWeather;
+      if (valid[k] == 0) flag |= kFlagInvalidInFile;
+      const std::span<const double> sample = tb.subspan(k * nc, nc);
+      for (double v : sample) {
+        if (!(v >= 0.0 && v < 400.0)) flag |= kFlagBadBrightness;
+      }
+      if (flag & (kFlagInvalidInFile | kFlagBadBrightness)) continue;
+      const double el = night.pointing.elevation_deg[a * nt + k];
+      const PwvTableResult r = table.invert(sample, noise, el, surface_t[k]);
+      if (r.status == PwvTableStatus::kOk) {
+        out.pwv_mm[a * nt + k] = r.pwv_mm;
+        out.pwv_sigma_mm[a * nt + k] = r.pwv_sigma_mm;
+        out.chi2_per_dof[a * nt + k] = r.chi2 / dof;
+      } else if (r.status == PwvTableStatus::kBrightnessInvalid) {
+        flag |= kFlagBadBrightness;
+      } else if (r.status == PwvTableStatus::kNoSensitiveChannel) {
+        flag |= kFlagFitFailed;
+      } else {
+        flag |= kFlagOutOfDomain;
+      }
+    }
+    // Coefficient windows.
+    std::vector<double> mean(nc), window_noise(nc), d_pwv(nc), tb_model(nc), pwvs, chis;
+    std::size_t k = 0;
+    for (std::size_t w = 0; w < nw; ++w) {
+      std::fill(mean.begin(), mean.end(), 0.0);
+      double el_sum = 0.0, t_sum = 0.0;
+      std::size_t n = 0;
+      pwvs.clear();
+      chis.clear();
+      for (; k < nt && night.radiometer.time_s[k] < out.window_stop_s[w]; ++k) {
+        if (out.flags[a * nt + k] & kRetrievalUnusable) continue;
+        for (std::size_t c = 0; c < nc; ++c) mean[c] += tb[k * nc + c];
+        el_sum += night.pointing.elevation_deg[a * nt + k];
+        t_sum += surface_t[k];
+        pwvs.push_back(out.pwv_mm[a * nt + k]);
+        chis.push_back(out.chi2_per_dof[a * nt + k]);
+        ++n;
+      }
+      const std::size_t aw = a * nw + w;
+      if (n == 0) {
+        out.window_flags[aw] |= kFlagNoValidSamples;
+        continue;
+      }
+      if (!have_weather) out.window_flags[aw] |= kFlagNoWeather;
+      for (std::size_t c = 0; c < nc; ++c) {
+        mean[c] /= static_cast<double>(n);
+        window_noise[c] = noise[c] / std::sqrt(static_cast<double>(n));
+      }
+      const double el = el_sum / static_cast<double>(n);
+      const double temperature = t_sum / static_cast<double>(n);
+      const std::size_t node =
+          std::min(models.size() - 1, static_cast<std::size_t>(std::lround(temperature - t_lo)));
+      const FastSkyModel& model = *models[node];
+      auto it = tools.find(node);
+      if (it == tools.end()) {
+        it = tools
+                 .emplace(node,
+                          NodeTools{Retriever(model, options.window_fit), model.make_workspace()})
+                 .first;
+      }
+      RetrievalInput input{mean, window_noise, el, detail::finite_median(pwvs),
+                           temperature - (t_lo + static_cast<double>(node))};
+      const RetrievalResult fit = it->second.retriever.fit(input);
+      out.window_chi2_per_dof[aw] = detail::finite_median(chis);
+      if (!fit.ok()) {
+        out.window_flags[aw] |= kFlagFitFailed;
+        continue;
+      }
+      out.window_pwv_mm[aw] = fit.pwv_mm;
+      out.window_pwv_sigma_mm[aw] = fit.pwv_sigma_mm;
+      out.window_liquid_kg_m2[aw] = fit.liquid_kg_m2;
+      model.evaluate(FastSkyState{fit.pwv_mm, el, fit.liquid_kg_m2}, it->second.workspace, tb_model,
+                     FastSkyJacobians{d_pwv, {}, {}});
+      const double wet_mm_per_pwv = model.wet_path_per_pwv_m_per_mm(el) * 1000.0;
+      out.window_wet_path_mm[aw] = fit.pwv_mm * wet_mm_per_pwv;
+      out.window_elevation_deg[aw] = el;
+      for (std::size_t c = 0; c < nc; ++c)
+        out.window_model_brightness_k[aw * nc + c] = fit.model_brightness_k[c];
+      double information = 0.0;
+      for (std::size_t c = 0; c < nc; ++c) {
+        const double s = d_pwv[c] / wet_mm_per_pwv;
+        out.path_sensitivity_k_per_mm[aw * nc + c] = s;
+        information += s * s / (noise[c] * noise[c]);
+      }
+      for (std::size_t c = 0; c < nc; ++c) {
+        out.combination_weight_mm_per_k[aw * nc + c] =
+            out.path_sensitivity_k_per_mm[aw * nc + c] / (noise[c] * noise[c]) / information;
+      }
+      out.path_noise_mm[aw] = 1.0 / std::sqrt(information);
+    }
+  };
+
+  const unsigned hardware = std::max(1u, std::thread::hardware_concurrency());
+  const std::size_t thread_count = std::min<std::size_t>(
+      na, options.threads > 0 ? static_cast<std::size_t>(options.threads) : hardware);
+  std::vector<std::thread> workers;
+  for (std::size_t th = 0; th < thread_count; ++th) {
+    workers.emplace_back([&, th] {
+      std::map<std::size_t, NodeTools> tools;
+      for (std::size_t a = th; a < na; a += thread_count) process_antenna(a, tools);
+    });
+  }
+  for (std::thread& worker : workers) worker.join();
+  out.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  return out;
+}
+
+ResultGroup to_result_group(const NightRetrieval& r, const Night& night) {
+  ResultGroup g;
+  g.stage = "retrieval";
+  g.attributes["model"] = SkyModel().absorption_model().name();
+  g.attributes["method"] = "per sample: table inversion; per window: full fit of the window mean";
+  g.attributes["flag_bits"] =
+      "1 invalid in file, 2 bad brightness, 4 out of domain, 8 no weather, 16 fit failed, 32 no "
+      "valid samples";
+  const std::size_t a = r.antennas, t = r.samples, w = r.windows, c = r.channels;
+  auto add = [&](std::string name, std::vector<std::size_t> shape, ResultValues values,
+                 std::string units) {
+    g.datasets.push_back(
+        {std::move(name), std::move(shape), std::move(values), std::move(units), {}});
+  };
+  add("pwv_mm", {a, t}, r.pwv_mm, "mm");
+  add("pwv_sigma_mm", {a, t}, r.pwv_sigma_mm, "mm");
+  add("chi2_per_dof", {a, t}, r.chi2_per_dof, "1");
+  add("flags", {a, t}, r.flags, "1");
+  add("window_start_s", {w}, r.window_start_s, "s");
+  add("window_stop_s", {w}, r.window_stop_s, "s");
+  add("window_pwv_mm", {a, w}, r.window_pwv_mm, "mm");
+  add("window_pwv_sigma_mm", {a, w}, r.window_pwv_sigma_mm, "mm");
+  add("window_chi2_per_dof", {a, w}, r.window_chi2_per_dof, "1");
+  add("window_liquid_kg_m2", {a, w}, r.window_liquid_kg_m2, "kg/m^2");
+  add("window_flags", {a, w}, r.window_flags, "1");
+  add("path_sensitivity_k_per_mm", {a, w, c}, r.path_sensitivity_k_per_mm, "K/mm");
+  add("combination_weight_mm_per_k", {a, w, c}, r.combination_weight_mm_per_k, "mm/K");
+  add("path_noise_mm", {a, w}, r.path_noise_mm, "mm");
+  add("window_model_brightness_k", {a, w, c}, r.window_model_brightness_k, "K");
+  add("window_wet_path_mm", {a, w}, r.window_wet_path_mm, "mm");
+  add("window_elevation_deg", {a, w}, r.window_elevation_deg, "deg");
+  (void)night;
+  return g;
+}
+
+NightRetrieval retrieval_from_result_group(const ResultGroup& g) {
+  const ResultDataset* pwv = g.find("pwv_mm");
+  const ResultDataset* weights = g.find("combination_weight_mm_per_k");
+  if (pwv == nullptr || pwv->shape.size() != 2 || weights == nullptr ||
+      weights->shape.size() != 3) {
+    throw InvalidInput(
+        "/results/" + g.stage +
+        " is not a retrieval (pwv_mm [A, T] and combination_weight_mm_per_k [A, W, C] needed)");
+  }
+  NightRetrieval r;
+  r.antennas = pwv->shape[0];
+  r.samples = pwv->shape[1];
+  r.windows = weights->shape[1];
+  r.channels = weights->shape[2];
+  auto take = [&](const char* name, std::vector<std::size_t> shape, auto& out) {
+    const ResultDataset* d = g.find(name);
+    using Vector = std::decay_t<decltype(out)>;
+    if (d == nullptr || d->shape != shape || !std::holds_alternative<Vector>(d->values)) {
+      throw InvalidInput("/results/" + g.stage + "/" + name +
+                         " is missing or has an unexpected shape or type");
+    }
+    out = std::get<Vector>(d->values);
+  };
+  const std::size_t a = r.antennas, t = r.samples, w = r.windows, c = r.channels;
+  take("pwv_mm", {a, t}, r.pwv_mm);
+  take("pwv_sigma_mm", {a, t}, r.pwv_sigma_mm);
+  take("chi2_per_dof", {a, t}, r.chi2_per_dof);
+  take("flags", {a, t}, r.flags);
+  take("window_start_s", {w}, r.window_start_s);
+  take("window_stop_s", {w}, r.window_stop_s);
+  take("window_pwv_mm", {a, w}, r.window_pwv_mm);
+  take("window_pwv_sigma_mm", {a, w}, r.window_pwv_sigma_mm);
+  take("window_chi2_per_dof", {a, w}, r.window_chi2_per_dof);
+  take("window_liquid_kg_m2", {a, w}, r.window_liquid_kg_m2);
+  take("window_flags", {a, w}, r.window_flags);
+  take("path_sensitivity_k_per_mm", {a, w, c}, r.path_sensitivity_k_per_mm);
+  take("combination_weight_mm_per_k", {a, w, c}, r.combination_weight_mm_per_k);
+  take("path_noise_mm", {a, w}, r.path_noise_mm);
+  take("window_model_brightness_k", {a, w, c}, r.window_model_brightness_k);
+  take("window_wet_path_mm", {a, w}, r.window_wet_path_mm);
+  take("window_elevation_deg", {a, w}, r.window_elevation_deg);
+  return r;
+}
+
+NightRetrievalSummary summarize(const NightRetrieval& r) {
+  NightRetrievalSummary s;
+  s.antennas = r.antennas;
+  s.samples = r.antennas * r.samples;
+  std::vector<double> pwv, chi2;
+  for (std::size_t i = 0; i < r.flags.size(); ++i) {
+    if (r.flags[i] & kRetrievalUnusable) {
+      ++s.samples_flagged;
+      continue;
+    }
+    pwv.push_back(r.pwv_mm[i]);
+    chi2.push_back(r.chi2_per_dof[i]);
+  }
+  s.pwv_median_mm = detail::finite_quantile(pwv, 0.5);
+  s.pwv_p10_mm = detail::finite_quantile(pwv, 0.1);
+  s.pwv_p90_mm = detail::finite_quantile(pwv, 0.9);
+  s.chi2_per_dof_median = detail::finite_quantile(chi2, 0.5);
+  for (std::size_t c = 0; c < r.channels; ++c) {
+    std::vector<double> values;
+    for (std::size_t aw = 0; aw < r.antennas * r.windows; ++aw) {
+      const double v = r.path_sensitivity_k_per_mm[aw * r.channels + c];
+      if (std::isfinite(v)) values.push_back(v);
+    }
+    s.path_sensitivity_k_per_mm.push_back(detail::finite_quantile(values, 0.5));
+  }
+  return s;
+}
+
+}  // namespace wvr
