@@ -17,13 +17,10 @@ build/tools/skyphase simulate testdata/demo-scenario.toml -o out/demo-night.h5 -
 echo
 build/tools/skyphase inspect out/demo-night.h5
 echo
-build/tools/skyphase retrieve out/demo-night.h5 -o out/demo-retrieved.h5 \
-  --site testdata/sites/demo-site.toml --overwrite
+build/tools/skyphase retrieve out/demo-night.h5 -o out/demo-retrieved.h5 --overwrite
 echo
-build/tools/skyphase calibrate out/demo-retrieved.h5 -o out/demo-calibrated.h5 \
-  --site testdata/sites/demo-site.toml --overwrite
+build/tools/skyphase calibrate out/demo-retrieved.h5 -o out/demo-calibrated.h5 --overwrite
 echo
-build/tools/skyphase correct out/demo-calibrated.h5 -o out/demo-corrected.h5 \
-  --site testdata/sites/demo-site.toml --overwrite
+build/tools/skyphase correct out/demo-calibrated.h5 -o out/demo-corrected.h5 --overwrite
 echo
-build/tools/skyphase report out/demo-night.h5 -o out/demo-report --site testdata/sites/demo-site.toml
+build/tools/skyphase report out/demo-night.h5 -o out/demo-report

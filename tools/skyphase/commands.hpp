@@ -14,6 +14,7 @@ void add_retrieve_command(CLI::App& app);
 void add_calibrate_command(CLI::App& app);
 void add_correct_command(CLI::App& app);
 void add_diagnose_command(CLI::App& app);
+void add_process_command(CLI::App& app);
 void add_report_command(CLI::App& app);
 
 }  // namespace skyphase

@@ -59,7 +59,7 @@ void print_summary(const wvr::Night& night,
     return;
   }
   std::cout << "scale " << fixed(scale, 4) << " +/- " << fixed(scale_sigma, 4)
-            << (calibrated ? "" : " (not calibrated: run skyphase calibrate first)") << " ["
+            << (calibrated ? "" : " (the scaling solve failed: corrections use scale 1)") << " ["
             << status << "]\n"
             << "calibrator phase rms (median over " << m.baselines.size()
             << " baselines): " << fixed(m.phase_rms_before_deg, 2) << " deg before, "
@@ -78,51 +78,28 @@ struct CalibrateOptions {
 };
 
 void run_calibrate(const CalibrateOptions& o) {
-  Prepared p = prepare(o.common);
-  wvr::CalibrationOptions options;
-  options.per_antenna_scale = o.per_antenna;
-  options.segment_s = o.segment_s;
-  options.reference_antenna = o.reference_antenna;
-  const wvr::CalibrationResult c = wvr::solve_scaling(p.night, p.paths, p.phase_per_path, options);
-  const wvr::CorrectionMetrics m =
-      wvr::evaluate_correction(p.night, p.paths, c.antenna_scale, p.phase_per_path);
-  p.new_groups.push_back(wvr::calibration_result_group(c));
-  wvr::NightWriteOptions write;
-  write.overwrite_output = o.common.overwrite;
-  write.replace_existing_results = true;
-  wvr::add_result_groups(o.common.night_file, o.common.output_file, p.new_groups, write);
-  print_summary(p.night, m, c.antenna_scale, c.antenna_scale_sigma, c.scale, c.scale_sigma, c.ok(),
-                c.brief_report(), o.common.output_file, o.common.format);
+  wvr::NightProcessingOptions options = processing_options(o.common, wvr::NightStage::kCalibration);
+  wvr::CalibrationOptions calibration;
+  calibration.per_antenna_scale = o.per_antenna;
+  calibration.segment_s = o.segment_s;
+  calibration.reference_antenna = o.reference_antenna;
+  options.calibration = calibration;
+  options.validate();
+  const Processed p = process_and_write(o.common, options);
+  const wvr::CalibrationResult& c = *p.result.calibration;
+  if (o.common.format != Format::kJson) print_notes(p.result);
+  print_summary(p.night, *p.result.metrics, c.antenna_scale, c.antenna_scale_sigma, c.scale,
+                c.scale_sigma, c.ok(), c.brief_report(), o.common.output_file, o.common.format);
 }
 
-struct CorrectOptions {
-  CommonOptions common;
-  double obs_freq_ghz = 0.0;
-};
-
-void run_correct(const CorrectOptions& o) {
-  Prepared p = prepare(o.common);
-  const std::size_t na = p.night.antenna_count();
-  const StoredCalibration stored = stored_calibration(p.night, o.common.night_file);
-  const bool calibrated = stored.present;
-  const std::vector<double> scale =
-      calibrated ? stored.antenna_scale : std::vector<double>(na, 1.0);
-  const std::vector<double> sigma =
-      calibrated ? stored.antenna_scale_sigma : std::vector<double>(na, 0.0);
-  const double array_scale = stored.scale, array_sigma = stored.scale_sigma;
-  const double freq = o.obs_freq_ghz > 0.0 ? o.obs_freq_ghz : night_obs_freq_ghz(p.night);
-  const wvr::PhaseCorrections corrections =
-      wvr::compute_phase_corrections(p.night, p.coefficients, scale, freq, p.phase_per_path(freq));
-  const wvr::CorrectionMetrics m =
-      wvr::evaluate_correction(p.night, p.paths, scale, p.phase_per_path);
-  p.new_groups.push_back(wvr::correction_result_group(corrections, m));
-  wvr::NightWriteOptions write;
-  write.overwrite_output = o.common.overwrite;
-  write.replace_existing_results = true;
-  wvr::add_result_groups(o.common.night_file, o.common.output_file, p.new_groups, write);
-  print_summary(p.night, m, scale, sigma, array_scale, array_sigma, calibrated,
-                calibrated ? "calibration applied" : "scale 1 assumed", o.common.output_file,
-                o.common.format);
+void run_correct(const CommonOptions& o) {
+  const Processed p = process_and_write(o, processing_options(o, wvr::NightStage::kCorrection));
+  const wvr::CalibrationResult& c = *p.result.calibration;
+  if (o.format != Format::kJson) print_notes(p.result);
+  print_summary(p.night, *p.result.metrics, c.antenna_scale, c.antenna_scale_sigma, c.scale,
+                c.scale_sigma, c.ok(),
+                p.result.calibration_reused ? "calibration applied" : c.brief_report(),
+                o.output_file, o.format);
 }
 
 }  // namespace
@@ -142,12 +119,11 @@ void add_calibrate_command(CLI::App& app) {
 }
 
 void add_correct_command(CLI::App& app) {
-  auto options = std::make_shared<CorrectOptions>();
+  auto options = std::make_shared<CommonOptions>();
   CLI::App* cmd = app.add_subcommand(
       "correct", "Apply the phase corrections and report before/after statistics");
-  add_common(*cmd, options->common);
-  cmd->add_option("--obs-freq-ghz", options->obs_freq_ghz,
-                  "Observing frequency of the correction table (default: the night's)");
+  add_common(*cmd, *options);
+  add_frequency_option(*cmd, *options);
   cmd->callback([options] { run_correct(*options); });
 }
 

@@ -13,48 +13,18 @@
 #include "wvr/error.hpp"
 #include "wvr/fast_switching.hpp"
 #include "wvr/night_file.hpp"
-#include "wvr/structure_function.hpp"
+#include "wvr/night_retrieval.hpp"
 
 namespace skyphase {
 
 DiagnosedNight diagnose_and_write(const CommonOptions& o) {
-  // Thresholds first: a mistake in the file should not wait for the retrieval.
-  const wvr::DiagnosisThresholds thresholds =
-      o.thresholds_file.empty() ? wvr::DiagnosisThresholds{}
-                                : wvr::load_diagnosis_thresholds(o.thresholds_file);
-  Prepared p = prepare(o);
   DiagnosedNight out;
-  const StoredCalibration stored = stored_calibration(p.night, o.night_file);
-  wvr::CalibrationResult calibration;
-  if (stored.present) {
-    calibration.status = wvr::CalibrationStatus::kConverged;
-    calibration.scale = stored.scale;
-    calibration.scale_sigma = stored.scale_sigma;
-    calibration.antenna_scale = stored.antenna_scale;
-    calibration.antenna_scale_sigma = stored.antenna_scale_sigma;
-  } else {
-    calibration = wvr::solve_scaling(p.night, p.paths, p.phase_per_path);
-    if (calibration.antenna_scale.empty())
-      calibration.antenna_scale.assign(p.night.antenna_count(), 1.0);
-    p.new_groups.push_back(wvr::calibration_result_group(calibration));
-  }
-  const wvr::CorrectionMetrics metrics =
-      wvr::evaluate_correction(p.night, p.paths, calibration.antenna_scale, p.phase_per_path);
-  if (p.night.find_result("correction") == nullptr) {
-    const double freq = night_obs_freq_ghz(p.night);
-    p.new_groups.push_back(wvr::correction_result_group(
-        wvr::compute_phase_corrections(p.night, p.coefficients, calibration.antenna_scale, freq,
-                                       p.phase_per_path(freq)),
-        metrics));
-  }
-  const wvr::NightDiagnosis diagnosis =
-      wvr::diagnose_night(p.night, p.retrieval, p.paths, metrics, p.phase_per_path, thresholds);
-  p.new_groups.push_back(wvr::diagnosis_result_group(diagnosis));
-  wvr::NightWriteOptions write;
-  write.overwrite_output = o.overwrite;
-  write.replace_existing_results = true;
-  wvr::add_result_groups(o.night_file, o.output_file, p.new_groups, write);
-
+  out.processed = process_and_write(o, processing_options(o, wvr::NightStage::kTurbulence));
+  const wvr::Night& night = out.processed.night;
+  const wvr::NightProcessingResult& r = out.processed.result;
+  const wvr::NightDiagnosis& diagnosis = *r.diagnosis;
+  const wvr::CalibrationResult& calibration = *r.calibration;
+  const wvr::CorrectionMetrics& metrics = *r.metrics;
   nlohmann::ordered_json j;
   j["night"] = o.night_file;
   j["output"] = o.output_file;
@@ -101,11 +71,15 @@ DiagnosedNight diagnose_and_write(const CommonOptions& o) {
     thresholds_json[f.name] = diagnosis.thresholds.*(f.member);
   j["thresholds"] = thresholds_json;
   j["thresholds_source"] = o.thresholds_file.empty() ? "defaults" : o.thresholds_file;
-  const nlohmann::ordered_json structure = structure_wind_and_advice(p, diagnosis, metrics, o);
+  j["site"] = site_json(r.site);
+  j["obs_freq_ghz"] = r.obs_freq->freq_ghz;
+  j["obs_freq_source"] = wvr::to_string(r.obs_freq->source);
+  const nlohmann::ordered_json structure = turbulence_json(night, *r.turbulence);
   for (const auto& [key, value] : structure.items()) j[key] = value;
-  j["notes"] = diagnosis.notes;
+  nlohmann::ordered_json notes = diagnosis.notes;
+  for (const std::string& note : r.notes) notes.push_back(note);
+  j["notes"] = notes;
   out.json = j;
-  out.diagnosis = diagnosis;
   return out;
 }
 
@@ -118,9 +92,9 @@ void print_text(const DiagnosedNight& d) {
   for (const auto& [verdict, count] : s["verdict_counts"].items()) {
     std::cout << "  " << verdict << ": " << count << " scans\n";
   }
-  for (const std::string& note : d.diagnosis.notes) std::cout << "note: " << note << "\n";
+  for (const auto& note : d.json["notes"]) std::cout << "note: " << note.get<std::string>() << "\n";
   Table table({"start_s", "stop_s", "kind", "verdict", "reason"});
-  for (const wvr::WindowDiagnosis& w : d.diagnosis.windows) {
+  for (const wvr::WindowDiagnosis& w : d.processed.result.diagnosis->windows) {
     if (w.verdict == wvr::Verdict::kCorrected && !w.calibrator) continue;  // keep the list short
     table.add_row({fixed(w.start_s, 0), fixed(w.stop_s, 0), w.calibrator ? "calibrator" : "target",
                    wvr::to_string(w.verdict) + (w.inherited ? " (inherited)" : ""), w.reason});
@@ -137,12 +111,42 @@ void add_diagnose_command(CLI::App& app) {
       "diagnose",
       "Judge each scan: corrected, quiet sky, dry turbulence, cloud, radiometer fault, scale off");
   add_common(*cmd, *options);
+  add_frequency_option(*cmd, *options);
   add_diagnosis_options(*cmd, *options);
   cmd->callback([options] {
     const DiagnosedNight d = diagnose_and_write(*options);
     if (options->format == Format::kJson) {
       std::cout << d.json.dump(2) << "\n";
     } else {
+      print_text(d);
+    }
+  });
+}
+
+void add_process_command(CLI::App& app) {
+  auto options = std::make_shared<CommonOptions>();
+  CLI::App* cmd = app.add_subcommand(
+      "process",
+      "Every stage in one pass (retrieve, calibrate, correct, diagnose, turbulence): read once, "
+      "write once");
+  add_common(*cmd, *options);
+  add_frequency_option(*cmd, *options);
+  add_diagnosis_options(*cmd, *options);
+  cmd->callback([options] {
+    DiagnosedNight d = diagnose_and_write(*options);
+    const wvr::NightRetrievalSummary s = wvr::summarize(d.processed.result.retrieval);
+    d.json["retrieval"] = {{"reused", d.processed.result.retrieval_reused},
+                           {"samples_flagged", s.samples_flagged},
+                           {"pwv_median_mm", json_number(s.pwv_median_mm)},
+                           {"pwv_p10_mm", json_number(s.pwv_p10_mm)},
+                           {"pwv_p90_mm", json_number(s.pwv_p90_mm)},
+                           {"chi2_per_dof_median", json_number(s.chi2_per_dof_median)}};
+    if (options->format == Format::kJson) {
+      std::cout << d.json.dump(2) << "\n";
+    } else {
+      std::cout << "PWV median " << fixed(s.pwv_median_mm, 3)
+                << " mm (10-90 %: " << fixed(s.pwv_p10_mm, 3) << " - " << fixed(s.pwv_p90_mm, 3)
+                << ")\n";
       print_text(d);
     }
   });

@@ -22,6 +22,7 @@ int main(int argc, char** argv) {
   skyphase::add_calibrate_command(app);
   skyphase::add_correct_command(app);
   skyphase::add_diagnose_command(app);
+  skyphase::add_process_command(app);
   skyphase::add_report_command(app);
   try {
     app.parse(argc, argv);

@@ -1,22 +1,32 @@
 #include "pipeline.hpp"
 
-#include "wvr/dispersion.hpp"
-#include "wvr/error.hpp"
+#include <iostream>
+
 #include "wvr/night_file.hpp"
+#include "wvr/site_config.hpp"
 
 namespace skyphase {
 
 void add_common(CLI::App& cmd, CommonOptions& o) {
   cmd.add_option("night", o.night_file, "Night file (HDF5)")->required()->check(CLI::ExistingFile);
   cmd.add_option("-o,--output", o.output_file, "Night file to write with the results")->required();
-  cmd.add_option("--site", o.site_file, "Site file (TOML) describing the atmosphere's shape")
-      ->required()
+  cmd.add_option("--site", o.site_file,
+                 "Site file (TOML) overriding the night's own site model (default: the night's "
+                 "site record, or defaults from its weather and array height)")
       ->check(CLI::ExistingFile);
   cmd.add_option("--window-s", o.window_s,
-                 "Coefficient window (s) when the night has no retrieval yet")
-      ->capture_default_str();
+                 "Coefficient window (s) of the retrieval (default: the stored retrieval's, or "
+                 "60; a stored retrieval made with another window is recomputed)");
+  cmd.add_option("--threads", o.threads, "Worker threads of the retrieval (0 = all cores)")
+      ->capture_default_str()
+      ->check(CLI::Range(0, 1024));
   cmd.add_flag("--overwrite", o.overwrite, "Replace an existing output file");
   add_format_option(cmd, o.format);
+}
+
+void add_frequency_option(CLI::App& cmd, CommonOptions& o) {
+  cmd.add_option("--obs-freq-ghz", o.obs_freq_ghz,
+                 "Observing frequency of the corrections (default: the night's scans)");
 }
 
 void add_diagnosis_options(CLI::App& cmd, CommonOptions& o) {
@@ -34,50 +44,53 @@ void add_diagnosis_options(CLI::App& cmd, CommonOptions& o) {
       ->capture_default_str();
 }
 
-Prepared prepare(const CommonOptions& o) {
-  Prepared p;
-  p.night = wvr::read_night(o.night_file);
-  p.site = wvr::load_site_config(o.site_file);
-  if (const wvr::ResultGroup* stored = p.night.find_result("retrieval")) {
-    p.retrieval = wvr::retrieval_from_result_group(*stored);
-  } else {
-    wvr::NightRetrievalOptions options;
-    options.coefficient_window_s = o.window_s;
-    p.retrieval = wvr::retrieve_night(p.night, p.site.parameters, options);
-    p.new_groups.push_back(wvr::to_result_group(p.retrieval, p.night));
+wvr::NightProcessingOptions processing_options(const CommonOptions& o,
+                                               wvr::NightStage last_stage,
+                                               bool retrieve) {
+  wvr::NightProcessingOptions options;
+  options.last_stage = last_stage;
+  if (!o.site_file.empty()) {
+    options.site = wvr::load_site_config(o.site_file);
+    options.site_description = "site file " + o.site_file;
   }
-  p.coefficients = wvr::CoefficientWindows::from_retrieval(p.retrieval);
-  p.phase_per_path = wvr::site_phase_per_path(p.site.parameters);
-  p.paths = wvr::compute_wvr_paths(p.night, p.coefficients);
+  if (retrieve || o.window_s) {
+    wvr::NightRetrievalOptions retrieval;
+    retrieval.coefficient_window_s = o.window_s.value_or(retrieval.coefficient_window_s);
+    retrieval.window_fit.fit_liquid = o.fit_liquid;
+    retrieval.window_fit.fit_temperature_offset = o.fit_temperature;
+    options.retrieval = retrieval;
+  }
+  options.threads = o.threads;
+  options.obs_freq_ghz = o.obs_freq_ghz;
+  if (!o.thresholds_file.empty())
+    options.thresholds = wvr::load_diagnosis_thresholds(o.thresholds_file);
+  options.turbulence.advice_layer_height_m = o.advice_layer_height_m;
+  options.turbulence.advice_separation_deg = o.advice_separation_deg;
+  options.turbulence.advice_target_rms_deg = o.advice_target_rms_deg;
+  // Checked before the night is read: a mistake in an option should not wait for it.
+  options.validate();
+  return options;
+}
+
+Processed process_and_write(const CommonOptions& o, const wvr::NightProcessingOptions& options) {
+  Processed p;
+  p.night = wvr::read_night(o.night_file);
+  p.result = wvr::process_night(p.night, options);
+  wvr::NightWriteOptions write;
+  write.overwrite_output = o.overwrite;
+  write.replace_existing_results = true;
+  wvr::add_result_groups(o.night_file, o.output_file, p.result.result_groups, write);
   return p;
 }
 
-double night_obs_freq_ghz(const wvr::Night& night) {
-  for (const wvr::Scan& s : night.scans) {
-    if (s.obs_freq_ghz > 0.0) return s.obs_freq_ghz;
-  }
-  return night.calibrator_phases.freq_ghz.empty() ? 230.0
-                                                  : night.calibrator_phases.freq_ghz.front();
+nlohmann::ordered_json site_json(const wvr::ResolvedSite& site) {
+  return {{"source", wvr::to_string(site.source)},
+          {"name", site.site.name},
+          {"description", site.description}};
 }
 
-StoredCalibration stored_calibration(const wvr::Night& night, const std::string& source) {
-  StoredCalibration c;
-  const wvr::ResultGroup* cal = night.find_result("calibration");
-  if (cal == nullptr) return c;
-  const auto* s = cal->find("antenna_scale");
-  const auto* ss = cal->find("antenna_scale_sigma");
-  const auto* a = cal->find("scale");
-  const auto* as = cal->find("scale_sigma");
-  if (s == nullptr || ss == nullptr || a == nullptr || as == nullptr ||
-      s->element_count() != night.antenna_count()) {
-    throw wvr::InvalidInput(source + ": /results/calibration is incomplete");
-  }
-  c.present = true;
-  c.antenna_scale = std::get<std::vector<double>>(s->values);
-  c.antenna_scale_sigma = std::get<std::vector<double>>(ss->values);
-  c.scale = std::get<std::vector<double>>(a->values).at(0);
-  c.scale_sigma = std::get<std::vector<double>>(as->values).at(0);
-  return c;
+void print_notes(const wvr::NightProcessingResult& result) {
+  for (const std::string& note : result.notes) std::cout << "note: " << note << "\n";
 }
 
 }  // namespace skyphase

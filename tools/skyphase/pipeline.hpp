@@ -1,29 +1,31 @@
 #pragma once
-// What skyphase calibrate, correct, diagnose and report share: the night, its retrieval
-// (read back from the file or computed now), the radiometer paths and the dispersion factor.
+// What the processing subcommands (retrieve, calibrate, correct, diagnose, process, report)
+// share: their common options, turned into the library night pipeline's options
+// (wvr/night_processing.hpp), and writing its result groups. No science here.
 
 #include <CLI/CLI.hpp>
-#include <functional>
+#include <nlohmann/json.hpp>
+#include <optional>
 #include <string>
-#include <vector>
 
 #include "output.hpp"
-#include "wvr/calibration.hpp"
-#include "wvr/correction.hpp"
 #include "wvr/night.hpp"
-#include "wvr/night_retrieval.hpp"
-#include "wvr/site_config.hpp"
+#include "wvr/night_processing.hpp"
 
 namespace skyphase {
 
 struct CommonOptions {
   std::string night_file;
   std::string output_file;
-  std::string site_file;
-  double window_s = 60.0;
+  std::string site_file;           // empty: the night's own site (record, or defaults)
+  std::optional<double> window_s;  // unset: the stored retrieval's, or 60 s
+  bool fit_liquid = false;         // retrieve only
+  bool fit_temperature = false;    // retrieve only
+  int threads = 0;
   bool overwrite = false;
   Format format = Format::kTable;
-  // Fast-switching advice (diagnose and report).
+  std::optional<double> obs_freq_ghz;
+  // Fast-switching advice (diagnose, process and report).
   double advice_layer_height_m = 1000.0;
   double advice_separation_deg = 2.0;
   double advice_target_rms_deg = 30.0;
@@ -31,33 +33,30 @@ struct CommonOptions {
   std::string thresholds_file;
 };
 
-// Registers night, -o, --site, --window-s, --overwrite and --format.
+// Registers night, -o, --site, --window-s, --threads, --overwrite and --format.
 void add_common(CLI::App& cmd, CommonOptions& o);
-
-struct Prepared {
-  wvr::Night night;
-  wvr::SiteConfig site;
-  wvr::NightRetrieval retrieval;
-  wvr::CoefficientWindows coefficients;
-  std::vector<wvr::ResultGroup> new_groups;  // groups this command adds to the output
-  std::function<double(double)> phase_per_path;
-  wvr::AntennaPaths paths;
-};
-
-// Registers --thresholds and the fast-switching advice options (diagnose and report).
+// Registers --obs-freq-ghz.
+void add_frequency_option(CLI::App& cmd, CommonOptions& o);
+// Registers --thresholds and the fast-switching advice options.
 void add_diagnosis_options(CLI::App& cmd, CommonOptions& o);
 
-Prepared prepare(const CommonOptions& o);
+// The library pipeline's options for the stages up to `last_stage` (reads the site and
+// thresholds files). `retrieve` asks for a retrieval with the given options even when none
+// was set on the command line.
+wvr::NightProcessingOptions processing_options(const CommonOptions& o,
+                                               wvr::NightStage last_stage,
+                                               bool retrieve = false);
 
-// The first scan's observing frequency (or the first calibrator row's, or 230 GHz).
-double night_obs_freq_ghz(const wvr::Night& night);
-
-// Per-antenna scales of the night's calibration group, when present.
-struct StoredCalibration {
-  bool present = false;
-  double scale = 1.0, scale_sigma = 0.0;
-  std::vector<double> antenna_scale, antenna_scale_sigma;
+// Reads the night, runs the pipeline, writes the output night with the new result groups.
+struct Processed {
+  wvr::Night night;
+  wvr::NightProcessingResult result;
 };
-StoredCalibration stored_calibration(const wvr::Night& night, const std::string& source);
+Processed process_and_write(const CommonOptions& o, const wvr::NightProcessingOptions& options);
+
+// {"source": ..., "description": ...} of the site used.
+nlohmann::ordered_json site_json(const wvr::ResolvedSite& site);
+// The pipeline's notes, one "note: ..." line each.
+void print_notes(const wvr::NightProcessingResult& result);
 
 }  // namespace skyphase

@@ -86,12 +86,11 @@ void add_report_command(CLI::App& app) {
                   "Directory for index.html, figures and summary.json")
       ->required();
   cmd->add_option("--site", options->common.site_file,
-                  "Site file (TOML) describing the atmosphere's shape")
-      ->required()
+                  "Site file (TOML) overriding the night's own site model")
       ->check(CLI::ExistingFile);
   cmd->add_option("--window-s", options->common.window_s,
-                  "Coefficient window (s) when the night has no retrieval yet")
-      ->capture_default_str();
+                  "Coefficient window (s) of the retrieval (default: the stored one's, or 60)");
+  add_frequency_option(*cmd, options->common);
   add_diagnosis_options(*cmd, options->common);
   cmd->callback([options] { run_report(*options); });
 }

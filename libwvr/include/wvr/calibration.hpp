@@ -19,6 +19,7 @@
 #include <string>
 #include <vector>
 
+#include "wvr/dispersion.hpp"
 #include "wvr/night.hpp"
 
 namespace wvr {
@@ -69,7 +70,7 @@ struct CalibrationResult {
 // options or paths whose shape does not match the night.
 CalibrationResult solve_scaling(const Night& night,
                                 const AntennaPaths& paths,
-                                const std::function<double(double)>& phase_per_path,
+                                const PhasePerPath& phase_per_path,
                                 const CalibrationOptions& options = {});
 
 }  // namespace wvr

@@ -17,6 +17,7 @@
 #include <vector>
 
 #include "wvr/calibration.hpp"
+#include "wvr/dispersion.hpp"
 #include "wvr/night.hpp"
 #include "wvr/night_retrieval.hpp"
 #include "wvr/streaming_corrector.hpp"
@@ -96,10 +97,15 @@ struct CorrectionMetrics {
 CorrectionMetrics evaluate_correction(const Night& night,
                                       const AntennaPaths& paths,
                                       std::span<const double> antenna_scale,
-                                      const std::function<double(double)>& phase_per_path);
+                                      const PhasePerPath& phase_per_path);
 
 // Night-file result groups.
 ResultGroup calibration_result_group(const CalibrationResult& calibration);
+// The calibration stored in a "calibration" group of a night of `antennas` antennas. Throws
+// InvalidInput starting with `source` and naming a missing or mis-shaped dataset.
+CalibrationResult calibration_from_result_group(const ResultGroup& group,
+                                                std::size_t antennas,
+                                                const std::string& source);
 ResultGroup correction_result_group(const PhaseCorrections& corrections,
                                     const CorrectionMetrics& metrics);
 

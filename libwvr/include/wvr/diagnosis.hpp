@@ -36,6 +36,7 @@
 #include <vector>
 
 #include "wvr/correction.hpp"
+#include "wvr/dispersion.hpp"
 #include "wvr/night.hpp"
 #include "wvr/night_retrieval.hpp"
 
@@ -121,7 +122,7 @@ NightDiagnosis diagnose_night(const Night& night,
                               const NightRetrieval& retrieval,
                               const AntennaPaths& paths,
                               const CorrectionMetrics& metrics,
-                              const std::function<double(double)>& phase_per_path,
+                              const PhasePerPath& phase_per_path,
                               const DiagnosisThresholds& thresholds = {});
 
 ResultGroup diagnosis_result_group(const NightDiagnosis& diagnosis);

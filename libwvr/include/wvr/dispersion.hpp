@@ -7,7 +7,7 @@
 // line widths as the absorption (wvr/absorption.hpp): N_disp(f) = N'(f) - N'(0), so it
 // vanishes at low frequency by construction.
 
-#include <functional>
+#include <memory>
 
 #include "wvr/absorption.hpp"
 #include "wvr/atmosphere.hpp"
@@ -22,11 +22,31 @@ double dispersive_wet_refractivity(double freq_ghz, const GasState& state);
 // (2 pi nu / c) * L_wet * factor.
 double wet_phase_per_path_factor(double freq_ghz, const AtmosphereProfile& profile);
 
-// The phase_per_path factor as a function of frequency for a site's parametric atmosphere,
-// as calibration, correction and diagnosis use it. The factor is a ratio of integrals over the
-// vapour profile, so the site's PWV and humidity do not enter (1 mm is used); the profile is
-// built once and shared by the copies of the function.
-std::function<double(double)> site_phase_per_path(const SiteParameters& site);
+// The wet phase per path of an atmosphere as a function of observing frequency: the one
+// policy that calibration, correction, diagnosis and the night pipeline use to turn a wet
+// path into phase, phase = (2 pi nu / c) L_wet factor(nu). Cheap to copy (copies share the
+// profile); thread-safe.
+class PhasePerPath {
+ public:
+  // factor(nu) = 1 at every frequency: no dispersion (low frequencies, tests).
+  static PhasePerPath non_dispersive();
+  // The dispersion of a profile's vapour (wet_phase_per_path_factor).
+  static PhasePerPath for_profile(AtmosphereProfile profile);
+
+  // Dimensionless factor at freq_ghz (throws InvalidInput outside the dispersion model's range).
+  double factor(double freq_ghz) const;
+  double operator()(double freq_ghz) const { return factor(freq_ghz); }
+  // Phase (rad) of a wet path at freq_ghz.
+  double phase_rad(double path_m, double freq_ghz) const;
+  bool dispersive() const { return profile_ != nullptr; }
+
+ private:
+  std::shared_ptr<const AtmosphereProfile> profile_;  // null: non-dispersive
+};
+
+// The phase per path of a site's parametric atmosphere. The factor is a ratio of integrals over
+// the vapour profile, so the site's PWV and humidity do not enter (1 mm is used).
+PhasePerPath site_phase_per_path(const SiteParameters& site);
 
 // Phase (rad) of a wet path at freq_ghz: 2 pi nu / c * path_m * factor.
 double wet_path_phase_rad(double path_m, double freq_ghz, double phase_per_path_factor);

@@ -23,6 +23,7 @@
 #include <vector>
 
 #include "wvr/radiometer.hpp"
+#include "wvr/site_config.hpp"
 
 namespace wvr {
 
@@ -130,6 +131,15 @@ struct ResultGroup {
   const ResultDataset* find(const std::string& name) const;
 };
 
+// The site model a night was made or recorded with (/site, schema version 2): the shape of
+// the atmosphere the retrieval, calibration and diagnosis assume, and where it came from.
+struct NightSite {
+  SiteConfig site;
+  // Where the parameters came from, e.g. "scenario 'demo night' (site file sites/demo.toml)"
+  // or "imported from WEATHER of obs.ms"; written to and read from the file unchanged.
+  std::string provenance;
+};
+
 struct Night {
   // UTC instant that every time_s counts from, ISO 8601 "YYYY-MM-DDThh:mm:ssZ".
   std::string time_epoch_utc;
@@ -140,6 +150,7 @@ struct Night {
   NightWeather weather;
   CalibratorPhases calibrator_phases;
   std::optional<NightTruth> truth;
+  std::optional<NightSite> site;     // absent in version-1 files and in bare recordings
   std::vector<ResultGroup> results;  // in the order the stages were added
 
   std::size_t antenna_count() const { return array.antenna_names.size(); }

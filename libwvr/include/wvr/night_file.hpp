@@ -18,7 +18,9 @@
 namespace wvr {
 
 inline constexpr const char* kNightSchemaName = "libwvr-night";
-inline constexpr int kNightSchemaVersion = 1;
+// Version 2 added the optional /site record; version-1 files still read.
+inline constexpr int kNightSchemaVersion = 2;
+inline constexpr int kOldestReadableNightSchemaVersion = 1;
 
 struct NightWriteOptions {
   // Replace an existing file at the output path (never allowed when it is the input).

@@ -159,6 +159,9 @@ struct BrokenPowerLawFit {
   // False when a single power law was kept (too few points, or the break did not lower the
   // BIC): the slopes are then equal and break_m is only the reference separation of A.
   bool has_break = true;
+  // A slope stopped at its bound (-0.5 or 2.5): the fit describes nothing physical there, and
+  // the message says which slope.
+  bool slope_at_bound = false;
   double break_m = 0.0;
   double saturation_m2 = 0.0;  // 0 when not fitted
   double transition_width = 0.0;

@@ -123,12 +123,27 @@ double wet_path_phase_rad(double path_m, double freq_ghz, double phase_per_path_
          phase_per_path_factor;
 }
 
-std::function<double(double)> site_phase_per_path(const SiteParameters& site) {
+PhasePerPath PhasePerPath::non_dispersive() { return PhasePerPath(); }
+
+PhasePerPath PhasePerPath::for_profile(AtmosphereProfile profile) {
+  PhasePerPath out;
+  out.profile_ = std::make_shared<const AtmosphereProfile>(std::move(profile));
+  return out;
+}
+
+double PhasePerPath::factor(double freq_ghz) const {
+  return profile_ ? wet_phase_per_path_factor(freq_ghz, *profile_) : 1.0;
+}
+
+double PhasePerPath::phase_rad(double path_m, double freq_ghz) const {
+  return wet_path_phase_rad(path_m, freq_ghz, factor(freq_ghz));
+}
+
+PhasePerPath site_phase_per_path(const SiteParameters& site) {
   SiteParameters shape = site;
   shape.pwv_mm = 1.0;
   shape.surface_relative_humidity_pct.reset();
-  const auto profile = std::make_shared<const AtmosphereProfile>(make_parametric_profile(shape));
-  return [profile](double freq_ghz) { return wet_phase_per_path_factor(freq_ghz, *profile); };
+  return PhasePerPath::for_profile(make_parametric_profile(shape));
 }
 
 }  // namespace wvr

@@ -133,7 +133,7 @@ double closed_form_cost(const std::vector<Row>& rows,
 
 CalibrationResult solve_scaling(const Night& night,
                                 const AntennaPaths& paths,
-                                const std::function<double(double)>& phase_per_path,
+                                const PhasePerPath& phase_per_path,
                                 const CalibrationOptions& options) {
   options.validate();
   const std::size_t na = night.antenna_count();

@@ -5,6 +5,7 @@
 #include <cmath>
 #include <map>
 #include <numbers>
+#include <optional>
 
 #include "core/statistics.hpp"
 #include "wvr/constants.hpp"
@@ -199,7 +200,7 @@ std::vector<double> interpolate_corrections(const PhaseCorrections& c,
 CorrectionMetrics evaluate_correction(const Night& night,
                                       const AntennaPaths& paths,
                                       std::span<const double> antenna_scale,
-                                      const std::function<double(double)>& phase_per_path) {
+                                      const PhasePerPath& phase_per_path) {
   const std::size_t na = night.antenna_count();
   const std::size_t nt = paths.time_s.size();
   const CalibratorPhases& cp = night.calibrator_phases;
@@ -318,6 +319,44 @@ ResultGroup calibration_result_group(const CalibrationResult& c) {
   g.datasets.push_back({"segment_scale", {ns}, c.segment_scale, "1", {}});
   g.datasets.push_back({"segment_scale_sigma", {ns}, c.segment_scale_sigma, "1", {}});
   return g;
+}
+
+CalibrationResult calibration_from_result_group(const ResultGroup& group,
+                                                std::size_t antennas,
+                                                const std::string& source) {
+  const std::string where = source + ": /results/" + group.stage + "/";
+  const auto doubles = [&](const char* name, std::optional<std::size_t> size) {
+    const ResultDataset* d = group.find(name);
+    if (d == nullptr) throw InvalidInput(where + name + " is missing");
+    const auto* values = std::get_if<std::vector<double>>(&d->values);
+    if (values == nullptr) throw InvalidInput(where + name + " is not double");
+    if (size && values->size() != *size)
+      throw InvalidInput(where + name + " has " + std::to_string(values->size()) +
+                         " values, expected " + std::to_string(*size));
+    return *values;
+  };
+  CalibrationResult c;
+  const auto status = group.attributes.find("status");
+  c.status = CalibrationStatus::kNoData;
+  if (status != group.attributes.end()) {
+    for (CalibrationStatus s : {CalibrationStatus::kConverged, CalibrationStatus::kNoConvergence,
+                                CalibrationStatus::kNoData, CalibrationStatus::kSolverFailure})
+      if (status->second == to_string(s)) c.status = s;
+  } else {
+    c.status = CalibrationStatus::kConverged;  // early files recorded no status
+  }
+  const auto report = group.attributes.find("report");
+  if (report != group.attributes.end()) c.message = report->second;
+  c.scale = doubles("scale", 1).at(0);
+  c.scale_sigma = doubles("scale_sigma", 1).at(0);
+  c.antenna_scale = doubles("antenna_scale", antennas);
+  c.antenna_scale_sigma = doubles("antenna_scale_sigma", antennas);
+  if (group.find("segment_scale") != nullptr) {
+    c.segment_start_s = doubles("segment_start_s", std::nullopt);
+    c.segment_scale = doubles("segment_scale", c.segment_start_s.size());
+    c.segment_scale_sigma = doubles("segment_scale_sigma", c.segment_start_s.size());
+  }
+  return c;
 }
 
 ResultGroup correction_result_group(const PhaseCorrections& p, const CorrectionMetrics& m) {

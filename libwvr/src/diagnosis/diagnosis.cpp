@@ -137,7 +137,7 @@ NightDiagnosis diagnose_night(const Night& night,
                               const NightRetrieval& r,
                               const AntennaPaths& paths,
                               const CorrectionMetrics& metrics,
-                              const std::function<double(double)>& phase_per_path,
+                              const PhasePerPath& phase_per_path,
                               const DiagnosisThresholds& th) {
   th.validate();
   const std::size_t na = night.antenna_count(), nt = night.time_count();

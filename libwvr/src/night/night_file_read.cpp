@@ -6,6 +6,7 @@
 
 #include "night/night_file_detail.hpp"
 #include "night/night_file_h5.hpp"
+#include "night/night_file_site.hpp"
 #include "wvr/error.hpp"
 #include "wvr/night_file.hpp"
 
@@ -35,9 +36,10 @@ void read_schema(const Reader& reader, Night& night) {
                          "\"; not a libwvr night file");
   }
   const std::int64_t version = reader.int_attribute(root.get(), "/", "schema_version");
-  if (version != kNightSchemaVersion) {
+  if (version < kOldestReadableNightSchemaVersion || version > kNightSchemaVersion) {
     reader.fail("/", "attribute schema_version = " + std::to_string(version) +
-                         " is not supported; this libwvr reads schema version " +
+                         " is not supported; this libwvr reads schema versions " +
+                         std::to_string(kOldestReadableNightSchemaVersion) + " to " +
                          std::to_string(kNightSchemaVersion));
   }
   night.time_epoch_utc = reader.string_attribute(root.get(), "/", "time_epoch_utc");
@@ -274,6 +276,7 @@ Night read_night(const std::filesystem::path& path) {
   read_weather(reader, night);
   read_calibrator_phases(reader, night);
   read_truth(reader, night, dims);
+  detail::read_site_group(reader, night);
   read_results(reader, night);
   validate_night(night, reader.source());
   return night;

@@ -404,6 +404,22 @@ void validate_result_group(const ResultGroup& group, const std::string& source) 
 
 }  // namespace detail
 
+namespace {
+
+void check_site(const Checker& check, const Night& night) {
+  if (!night.site) return;
+  check.text("/site attribute name", night.site->site.name, 0, true);
+  check.text("/site attribute provenance", night.site->provenance, 0, true);
+  try {
+    require_in_range("latitude_deg", night.site->site.latitude_deg, -90.0, 90.0, "deg");
+    night.site->site.parameters.validate();
+  } catch (const InvalidInput& error) {
+    check.fail("/site", error.what());
+  }
+}
+
+}  // namespace
+
 void validate_night(const Night& night, const std::string& source) {
   const Checker check(source);
   if (!valid_epoch(night.time_epoch_utc)) {
@@ -418,6 +434,7 @@ void validate_night(const Night& night, const std::string& source) {
   check_weather(check, night);
   check_calibrator_phases(check, night);
   check_truth(check, night);
+  check_site(check, night);
   std::set<std::string> stages;
   for (const ResultGroup& group : night.results) {
     detail::validate_result_group(group, source);

@@ -19,6 +19,7 @@
 
 #include "night/night_file_detail.hpp"
 #include "night/night_file_h5.hpp"
+#include "night/night_file_site.hpp"
 #include "wvr/error.hpp"
 #include "wvr/night_file.hpp"
 
@@ -344,6 +345,7 @@ void write_night(const Night& night, const fs::path& path, const NightWriteOptio
     write_weather_group(writer, night);
     write_calibrator_phases_group(writer, night);
     write_truth_group(writer, night);
+    detail::write_site_group(writer, night);
     if (!night.results.empty()) {
       ensure_results_group(writer);
       for (const ResultGroup& group : night.results) write_result_group(writer, group);

@@ -207,6 +207,9 @@ Night simulate_night(const Scenario& s,
   }
   night.array.reference_latitude_deg = s.site.latitude_deg;
   night.array.reference_height_m = s.site.parameters.altitude_m;
+  // The retrieval model's site: the one the scenario names (its sky may differ from it).
+  night.site =
+      NightSite{s.site, "simulated: scenario '" + s.name + "', site '" + s.site.name + "'"};
   night.radiometer.config = s.radiometer;
   night.radiometer.time_s = g.time_s;
   night.radiometer.brightness_k.assign(na * nt * nc, 0.0);

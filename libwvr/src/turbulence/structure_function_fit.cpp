@@ -295,6 +295,7 @@ BrokenPowerLawFit fit_broken_power_law(std::span<const double> separation_m,
   for (const auto& [name, alpha] :
        {std::pair{"alpha_short", alpha_s}, std::pair{"alpha_long", alpha_l}}) {
     if (alpha <= kMinSlope + 1e-6 || alpha >= kMaxSlope - 1e-6) {
+      fit.slope_at_bound = true;
       fit.message += std::string(fit.message.empty() ? "" : "; ") + name +
                      " stopped at its bound " +
                      (alpha < 0.0 ? "-0.5 (the points fall or saturate there)" : "2.5");

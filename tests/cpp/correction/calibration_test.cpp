@@ -55,7 +55,7 @@ struct Solved {
   NightRetrieval retrieval;
   CoefficientWindows coefficients;
   AntennaPaths paths;
-  std::function<double(double)> factor;
+  PhasePerPath factor;
   CalibrationResult calibration;
   CorrectionMetrics metrics;
 };

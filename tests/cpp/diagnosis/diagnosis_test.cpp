@@ -83,7 +83,7 @@ Diagnosed diagnose(const std::string& text) {
   const NightRetrieval retrieval = retrieve_night(out.night, s.site.parameters);
   const CoefficientWindows coefficients = CoefficientWindows::from_retrieval(retrieval);
   const AntennaPaths paths = compute_wvr_paths(out.night, coefficients);
-  const std::function<double(double)> factor = site_phase_per_path(s.site.parameters);
+  const PhasePerPath factor = site_phase_per_path(s.site.parameters);
   const CalibrationResult calibration = solve_scaling(out.night, paths, factor);
   const CorrectionMetrics metrics =
       evaluate_correction(out.night, paths, calibration.antenna_scale, factor);
@@ -164,7 +164,7 @@ TEST(Diagnosis, NightsThatCannotBeJudgedSaySo) {
   const NightRetrieval retrieval = retrieve_night(night, s.site.parameters);
   const AntennaPaths paths =
       compute_wvr_paths(night, CoefficientWindows::from_retrieval(retrieval));
-  const std::function<double(double)> one = [](double) { return 1.0; };
+  const PhasePerPath one = PhasePerPath::non_dispersive();
   const CorrectionMetrics metrics = evaluate_correction(night, paths, {}, one);
   const NightDiagnosis empty = diagnose_night(night, retrieval, paths, metrics, one);
   EXPECT_TRUE(empty.windows.empty());

@@ -492,10 +492,11 @@ TEST_F(NightFileTest, UnknownSchemaVersionIsRejected) {
   const std::string message = break_and_read(good, path("broken.h5"), [](hid_t file) {
     H5Handle attribute{H5Aopen_by_name(file, "/", "schema_version", H5P_DEFAULT, H5P_DEFAULT),
                        H5Aclose};
-    const int version = 2;
+    const int version = 3;
     ASSERT_GE(H5Awrite(attribute.id, H5T_NATIVE_INT, &version), 0);
   });
-  EXPECT_NE(message.find("schema_version = 2 is not supported; this libwvr reads schema version 1"),
+  EXPECT_NE(message.find("schema_version = 3 is not supported; this libwvr reads schema versions 1 "
+                         "to 2"),
             std::string::npos)
       << message;
 }

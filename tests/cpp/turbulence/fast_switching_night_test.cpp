@@ -68,7 +68,7 @@ CorrectedNight correct(const std::string& text) {
   const NightRetrieval retrieval = retrieve_night(out.night, scenario.site.parameters);
   const AntennaPaths paths =
       compute_wvr_paths(out.night, CoefficientWindows::from_retrieval(retrieval));
-  const std::function<double(double)> factor = site_phase_per_path(scenario.site.parameters);
+  const PhasePerPath factor = site_phase_per_path(scenario.site.parameters);
   const CalibrationResult calibration = solve_scaling(out.night, paths, factor);
   out.metrics = evaluate_correction(out.night, paths, calibration.antenna_scale, factor);
   return out;
