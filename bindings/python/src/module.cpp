@@ -24,5 +24,6 @@ PYBIND11_MODULE(_core, m) {
   wp::export_night(m);
   wp::export_simulator(m);
   wp::export_retrieval(m);
+  wp::export_night_processing(m);
   wp::export_correction(m);
 }

@@ -19,6 +19,7 @@
 #include "common.hpp"
 #include "wvr/error.hpp"
 #include "wvr/night_retrieval.hpp"
+#include "wvr/night_site.hpp"
 #include "wvr/pwv_table.hpp"
 #include "wvr/site_config.hpp"
 
@@ -397,7 +398,7 @@ py::dict retrieval_summary(const NightRetrieval& retrieval) {
 }
 
 NightRetrieval retrieve(const Night& night,
-                        const SiteConfig& site,
+                        const std::optional<SiteConfig>& site,
                         double coefficient_window_s,
                         bool fit_liquid,
                         bool fit_temperature_offset,
@@ -409,8 +410,9 @@ NightRetrieval retrieve(const Night& night,
   options.window_fit.fit_temperature_offset = fit_temperature_offset;
   options.threads = threads;
   options.validate();
+  const ResolvedSite resolved = resolve_night_site(night, site);
   py::gil_scoped_release release;
-  return retrieve_night(night, site.parameters, options);
+  return retrieve_night(night, resolved.site.parameters, options);
 }
 
 }  // namespace
@@ -669,10 +671,11 @@ chi2_per_dof_median and path_sensitivity_k_per_mm [C] (K/mm, median over antenna
         return out.str();
       });
 
-  m.def("retrieve_night", &retrieve, py::arg("night"), py::arg("site"), py::kw_only(),
+  m.def("retrieve_night", &retrieve, py::arg("night"), py::arg("site") = py::none(), py::kw_only(),
         py::arg("coefficient_window_s") = 60.0, py::arg("fit_liquid") = false,
         py::arg("fit_temperature_offset") = false, py::arg("threads") = 0, R"doc(
-Retrieves every antenna of night (wvr.Night) on the atmosphere shape of site (wvr.SiteConfig):
+Retrieves every antenna of night (wvr.Night) on the atmosphere shape of site (wvr.SiteConfig;
+None: the night's own site record, or defaults from its weather and array height):
 per sample the table inversion at the sample's elevation and the surface temperature of the
 night's weather (the site's when there is none), per coefficient_window_s (s) window the full
 fit of the window's mean brightness (fitting cloud liquid / a temperature offset on request)

@@ -27,12 +27,19 @@ Nights (night files, the simulator and the retrieval)::
     print(retrieval.summary()["pwv_median_mm"])
     wvr.add_result_group("night.h5", "night-retrieved.h5", retrieval.to_result_group(night))
 
-Phase correction::
+The whole night pipeline in one call (the same as ``skyphase process``)::
 
-    scale = wvr.solve_scaling(night, retrieval, scenario.site)
-    corrected = wvr.correct_night(night, retrieval, scenario.site,
-                                  antenna_scale=scale["antenna_scale"])
-    corrected["phase_correction_rad"]             # [antenna, time], added to the antenna phase
+    result = wvr.process_night(night)             # the night's own site; every stage
+    result.metrics.phase_rms_after_deg            # calibrator phase rms after correction
+    result.corrections.phase_correction_rad       # [antenna, time], added to the antenna phase
+    [w.verdict for w in result.diagnosis.windows]
+    result.turbulence.wind.speed_m_s
+
+Single stages::
+
+    scale = wvr.solve_scaling(night, retrieval)   # CalibrationResult
+    corrections, metrics = wvr.correct_night(night, retrieval,
+                                             antenna_scale=scale.antenna_scale)
 """
 
 import collections.abc as _collections_abc
@@ -40,13 +47,31 @@ import enum as _enum
 
 from wvr import _core
 from wvr._core import (
+    AntennaMetrics,
+    AntennaPaths,
     AtmosphereProfile,
+    BaselineMetrics,
+    BrokenPowerLawFit,
+    CalibrationResult,
     ChannelBrightness,
+    CorrectionMetrics,
+    CycleTimeSolution,
+    DiagnosisThresholds,
     FastSkyModel,
+    FastSwitchingAdvice,
+    FittedStructureFunction,
     Night,
+    NightDiagnosis,
+    NightProcessingResult,
     NightRetrieval,
+    NightSlabThickness,
+    NightTurbulence,
+    PhaseCorrections,
     PwvTable,
     Radiometer,
+    RadiometerTemporalStructure,
+    RegimeSlope,
+    ResolvedSite,
     ResultGroup,
     RetrievalResult,
     Retriever,
@@ -54,7 +79,12 @@ from wvr._core import (
     SiteConfig,
     SkyModel,
     SkySpectrum,
+    SlabThicknessFit,
     SlantPath,
+    StructureFunctionEstimate,
+    SwitchingAdvice,
+    WindEstimate,
+    WindowDiagnosis,
     WvrError,
     WvrValueError,
     __version__,
@@ -62,11 +92,13 @@ from wvr._core import (
     absorption_model_name,
     add_result_group,
     bevis_wet_delay_per_pwv,
-    correct_night,
     cloud_liquid_absorption_m2_per_kg,
     cloud_liquid_specific_attenuation,
+    correct_night,
+    describe_antenna_faults,
     describe_retrieval_flags,
     format_night_summary,
+    load_diagnosis_thresholds,
     load_scenario,
     load_site,
     p835_reference_vapour_density_kg_m3,
@@ -74,6 +106,7 @@ from wvr._core import (
     parse_scenario,
     parse_site,
     planck_brightness_k,
+    process_night,
     profile_from_site,
     profile_from_sounding,
     radiometer_paths,
@@ -145,16 +178,34 @@ _collections_abc.Mapping.register(ResultGroup)
 
 
 __all__ = [
+    "AntennaMetrics",
+    "AntennaPaths",
     "AtmosphereProfile",
+    "BaselineMetrics",
+    "BrokenPowerLawFit",
+    "CalibrationResult",
     "ChannelBrightness",
+    "CorrectionMetrics",
+    "CycleTimeSolution",
+    "DiagnosisThresholds",
     "FastModelStatus",
     "FastSkyModel",
+    "FastSwitchingAdvice",
+    "FittedStructureFunction",
     "Night",
+    "NightDiagnosis",
+    "NightProcessingResult",
     "NightRetrieval",
+    "NightSlabThickness",
+    "NightTurbulence",
+    "PhaseCorrections",
     "PwvTable",
     "PwvTableStatus",
     "RETRIEVAL_UNUSABLE",
     "Radiometer",
+    "RadiometerTemporalStructure",
+    "RegimeSlope",
+    "ResolvedSite",
     "ResultGroup",
     "RetrievalFlag",
     "RetrievalResult",
@@ -163,7 +214,12 @@ __all__ = [
     "SiteConfig",
     "SkyModel",
     "SkySpectrum",
+    "SlabThicknessFit",
     "SlantPath",
+    "StructureFunctionEstimate",
+    "SwitchingAdvice",
+    "WindEstimate",
+    "WindowDiagnosis",
     "WvrError",
     "WvrValueError",
     "__version__",
@@ -174,8 +230,10 @@ __all__ = [
     "cloud_liquid_absorption_m2_per_kg",
     "cloud_liquid_specific_attenuation",
     "correct_night",
+    "describe_antenna_faults",
     "describe_retrieval_flags",
     "format_night_summary",
+    "load_diagnosis_thresholds",
     "load_scenario",
     "load_site",
     "p835_reference_vapour_density_kg_m3",
@@ -183,6 +241,7 @@ __all__ = [
     "parse_scenario",
     "parse_site",
     "planck_brightness_k",
+    "process_night",
     "profile_from_site",
     "profile_from_sounding",
     "radiometer_paths",
