@@ -1,5 +1,6 @@
 """Shared fixtures of the Python tests: test-data locations, the demo site and radiometers,
-models built on them, and a reader for the reference CSV tables."""
+models built on them, a reader for the reference CSV tables, the skyphase program, and the rule
+that a skipped test fails unless it is marked optional_dependency."""
 import csv
 import os
 import pathlib
@@ -8,6 +9,32 @@ import numpy as np
 import pytest
 
 import wvr
+
+# Every dependency the project declares (tools/install-deps.sh: numpy, h5py, matplotlib; the
+# skyphase program when WVR_BUILD_TOOLS=ON) must be present: a test that skips because one is
+# missing fails instead, so a run cannot stay green while silently checking less. Only a test
+# marked optional_dependency(reason) may skip.
+OPTIONAL_MARKER = "optional_dependency"
+
+
+def pytest_configure(config):
+    config.addinivalue_line(
+        "markers", OPTIONAL_MARKER + "(reason): the test may skip; what it needs is optional")
+
+
+@pytest.hookimpl(hookwrapper=True)
+def pytest_runtest_makereport(item, call):
+    outcome = yield
+    report = outcome.get_result()
+    if not report.skipped or hasattr(report, "wasxfail"):
+        return
+    if item.get_closest_marker(OPTIONAL_MARKER):
+        return
+    reason = report.longrepr[2] if isinstance(report.longrepr, tuple) else str(report.longrepr)
+    report.outcome = "failed"
+    report.longrepr = (f"{item.nodeid} skipped ({reason}), but what it needs is a declared "
+                       f"dependency; mark the test {OPTIONAL_MARKER} if it is optional")
+
 
 TESTDATA = pathlib.Path(
     os.environ.get("WVR_TESTDATA_DIR")
@@ -69,3 +96,20 @@ def sky():
 @pytest.fixture(scope="session")
 def fast_183(demo_profile, radiometer_183, sky):
     return wvr.FastSkyModel(demo_profile, radiometer_183, sky)
+
+
+@pytest.fixture(scope="module")
+def skyphase(request):
+    """Path of the skyphase program (WVR_SKYPHASE, set by ctest). A build configured with
+    WVR_BUILD_TOOLS=OFF has no skyphase and says so (WVR_BUILD_TOOLS=OFF in the environment):
+    only then do these tests skip (the module is marked optional_dependency). Anywhere else a
+    missing program is a failure."""
+    path = os.environ.get("WVR_SKYPHASE", "")
+    if not path and os.environ.get("WVR_BUILD_TOOLS", "").upper() == "OFF":
+        request.node.add_marker(pytest.mark.optional_dependency("WVR_BUILD_TOOLS=OFF"))
+        pytest.skip("skyphase is not part of this build (WVR_BUILD_TOOLS=OFF)")
+    if not path:
+        pytest.fail("WVR_SKYPHASE is not set; skyphase is part of the build (WVR_BUILD_TOOLS=ON)")
+    if not os.access(path, os.X_OK):
+        pytest.fail(f"WVR_SKYPHASE = {path} is not an executable program")
+    return path

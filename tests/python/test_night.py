@@ -185,7 +185,7 @@ def test_write_then_read_is_bit_for_bit(tmp_path, small_night, compression_level
     assert_nights_identical(wvr.read_night(str(path)), small_night)
 
 
-@pytest.mark.skipif(not SKYPHASE, reason="skyphase was not built (WVR_BUILD_TOOLS=OFF)")
+@pytest.mark.usefixtures("skyphase")
 def test_night_written_by_skyphase_equals_the_python_simulation(tmp_path, testdata, demo_scenario):
     # The demo scenario shortened to 5 antennas x 300 s, without its faults (they are on
     # antennas 11 and 27), written by the C++ program and read here.

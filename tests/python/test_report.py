@@ -308,8 +308,6 @@ def test_report_rejects_a_missing_night(tmp_path):
 
 
 def diagnose(night, folder):
-    if not SKYPHASE:
-        pytest.skip("skyphase was not built (WVR_SKYPHASE is not set)")
     wvr.write_night(night, folder / "night.h5")
     result = subprocess.run(
         [SKYPHASE, "diagnose", str(folder / "night.h5"), "-o", str(folder / "diagnosed.h5"),
@@ -319,6 +317,7 @@ def diagnose(night, folder):
     return folder / "diagnosed.h5", json.loads(result.stdout)
 
 
+@pytest.mark.usefixtures("skyphase")
 def test_report_of_a_diagnosed_night(night, tmp_path):
     diagnosed, summary = diagnose(night, tmp_path)
     result = run_report(diagnosed, tmp_path / "summary.json", tmp_path / "report")
@@ -331,6 +330,7 @@ def test_report_of_a_diagnosed_night(night, tmp_path):
     assert sum(summary["summary"]["verdict_counts"].values()) == len(night.scans)
 
 
+@pytest.mark.usefixtures("skyphase")
 @pytest.mark.parametrize("kind, figure, words", [
     ("no calibrator scans", "phases", "no calibrator phases"),
     ("single antenna", "phases", "single antenna"),

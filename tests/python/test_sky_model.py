@@ -220,7 +220,7 @@ def test_jacobians_match_finite_differences(demo_profile, radiometer_183, radiom
 SKYPHASE = os.environ.get("WVR_SKYPHASE", "")
 
 
-@pytest.mark.skipif(not SKYPHASE, reason="skyphase was not built (WVR_BUILD_TOOLS=OFF)")
+@pytest.mark.usefixtures("skyphase")
 def test_python_and_skyphase_give_the_same_numbers(testdata, sky, demo_site, radiometer_183):
     site = str(testdata / "sites" / "demo-site.toml")
     radiometer = str(testdata / "radiometers" / "demo-183-dsb.toml")
