@@ -364,21 +364,8 @@ auto retrieval_view(std::vector<T> NightRetrieval::*member, const char* axes) {
   return [member, axes](const py::object& self) {
     const NightRetrieval& r = self.cast<const NightRetrieval&>();
     std::vector<py::ssize_t> shape;
-    for (const char* axis = axes; *axis != '\0'; ++axis) {
-      switch (*axis) {
-        case 'a':
-          shape.push_back(extent(r.antennas));
-          break;
-        case 't':
-          shape.push_back(extent(r.samples));
-          break;
-        case 'w':
-          shape.push_back(extent(r.windows));
-          break;
-        default:
-          shape.push_back(extent(r.channels));
-      }
-    }
+    for (const char* axis = axes; *axis != '\0'; ++axis)
+      shape.push_back(extent(axis_extent(r, *axis)));
     return read_only_view(r.*member, shape, self);
   };
 }
@@ -599,77 +586,46 @@ GIL and allocates nothing per sample. Raises WvrValueError only for wrong shapes
       "Text of the set bits of a retrieval flag byte (0-255), e.g. \"bad brightness, no "
       "weather\"; \"ok\" for 0.");
 
-  py::class_<NightRetrieval>(m, "NightRetrieval", R"doc(
+  auto night_retrieval =
+      py::class_<NightRetrieval>(m, "NightRetrieval", R"doc(
 Retrieval of every antenna of a night (wvr.retrieve_night). Per sample [A, T]: PWV from the
 table inversion with its error, chi2 per dof and flag bits (wvr.RetrievalFlag). Per coefficient
 window [A, W] (and [A, W, C]): the full fit of the window's mean brightness and the path
 coefficients at it. Arrays are read-only views. Immutable.
 )doc")
-      .def_readonly("antennas", &NightRetrieval::antennas)
-      .def_readonly("samples", &NightRetrieval::samples, "Samples per antenna (T).")
-      .def_readonly("channels", &NightRetrieval::channels)
-      .def_readonly("windows", &NightRetrieval::windows, "Coefficient windows (W).")
-      .def_readonly("seconds", &NightRetrieval::seconds, "Wall time of the retrieval (s).")
-      .def_property_readonly("pwv_mm", retrieval_view(&NightRetrieval::pwv_mm, "at"),
-                             "Zenith PWV per sample [A, T] (mm).")
-      .def_property_readonly("pwv_sigma_mm", retrieval_view(&NightRetrieval::pwv_sigma_mm, "at"),
-                             "1-sigma error of pwv_mm [A, T] (mm).")
-      .def_property_readonly("chi2_per_dof", retrieval_view(&NightRetrieval::chi2_per_dof, "at"),
-                             "Channel chi-square per degree of freedom [A, T].")
-      .def_property_readonly("flags", retrieval_view(&NightRetrieval::flags, "at"),
-                             "Flag bits per sample [A, T] (uint8, wvr.RetrievalFlag).")
-      .def_property_readonly("window_start_s", retrieval_view(&NightRetrieval::window_start_s, "w"),
-                             "Window starts [W] (s).")
-      .def_property_readonly("window_stop_s", retrieval_view(&NightRetrieval::window_stop_s, "w"),
-                             "Window ends [W] (s).")
-      .def_property_readonly("window_pwv_mm", retrieval_view(&NightRetrieval::window_pwv_mm, "aw"),
-                             "Full-fit zenith PWV per window [A, W] (mm).")
-      .def_property_readonly("window_pwv_sigma_mm",
-                             retrieval_view(&NightRetrieval::window_pwv_sigma_mm, "aw"),
-                             "1-sigma error of window_pwv_mm [A, W] (mm).")
-      .def_property_readonly("window_chi2_per_dof",
-                             retrieval_view(&NightRetrieval::window_chi2_per_dof, "aw"),
-                             "Chi-square per dof of the window fits [A, W].")
-      .def_property_readonly("window_liquid_kg_m2",
-                             retrieval_view(&NightRetrieval::window_liquid_kg_m2, "aw"),
-                             "Fitted cloud liquid water path [A, W] (kg/m^2; 0 unless fitted).")
-      .def_property_readonly("window_flags", retrieval_view(&NightRetrieval::window_flags, "aw"),
-                             "Flag bits per window [A, W] (uint8).")
-      .def_property_readonly("path_sensitivity_k_per_mm",
-                             retrieval_view(&NightRetrieval::path_sensitivity_k_per_mm, "awc"),
-                             "Channel brightness per mm of slant wet path [A, W, C] (K/mm).")
-      .def_property_readonly("combination_weight_mm_per_k",
-                             retrieval_view(&NightRetrieval::combination_weight_mm_per_k, "awc"),
-                             "Minimum-variance weights turning brightness changes into path "
-                             "changes [A, W, C] (mm/K).")
-      .def_property_readonly("path_noise_mm", retrieval_view(&NightRetrieval::path_noise_mm, "aw"),
-                             "Path noise of one sample from channel noise [A, W] (mm).")
-      .def_property_readonly("window_model_brightness_k",
-                             retrieval_view(&NightRetrieval::window_model_brightness_k, "awc"),
-                             "Model brightness at each window's fitted state [A, W, C] (K).")
-      .def_property_readonly("window_wet_path_mm",
-                             retrieval_view(&NightRetrieval::window_wet_path_mm, "aw"),
-                             "Slant wet path at each window's fitted state [A, W] (mm).")
-      .def_property_readonly("window_elevation_deg",
-                             retrieval_view(&NightRetrieval::window_elevation_deg, "aw"),
-                             "Mean elevation of the samples each window used [A, W] (deg).")
-      .def("summary", &retrieval_summary, R"doc(
+          .def_readonly("antennas", &NightRetrieval::antennas)
+          .def_readonly("samples", &NightRetrieval::samples, "Samples per antenna (T).")
+          .def_readonly("channels", &NightRetrieval::channels)
+          .def_readonly("windows", &NightRetrieval::windows, "Coefficient windows (W).")
+          .def_readonly("seconds", &NightRetrieval::seconds, "Wall time of the retrieval (s).")
+          .def("summary", &retrieval_summary, R"doc(
 Numbers for a one-screen summary: antennas, samples (antennas x samples per antenna),
 samples_flagged (unusable), pwv_median_mm, pwv_p10_mm, pwv_p90_mm (mm, over usable samples),
 chi2_per_dof_median and path_sensitivity_k_per_mm [C] (K/mm, median over antennas and windows).
 )doc")
-      .def(
-          "to_result_group",
-          [](const NightRetrieval& r, const Night& night) { return to_result_group(r, night); },
-          py::arg("night"),
-          "The \"retrieval\" result group of the night file (wvr.ResultGroup), for "
-          "wvr.add_result_group or Night.with_result_group.")
-      .def("__repr__", [](const NightRetrieval& r) {
-        std::ostringstream out;
-        out << "NightRetrieval(" << r.antennas << " antennas x " << r.samples << " samples, "
-            << r.windows << " windows, " << r.channels << " channels)";
-        return out.str();
-      });
+          .def(
+              "to_result_group",
+              [](const NightRetrieval& r, const Night& night) { return to_result_group(r, night); },
+              py::arg("night"),
+              "The \"retrieval\" result group of the night file (wvr.ResultGroup), for "
+              "wvr.add_result_group or Night.with_result_group.")
+          .def("__repr__", [](const NightRetrieval& r) {
+            std::ostringstream out;
+            out << "NightRetrieval(" << r.antennas << " antennas x " << r.samples << " samples, "
+                << r.windows << " windows, " << r.channels << " channels)";
+            return out.str();
+          });
+  // Every array from the one field table (wvr/night_retrieval.hpp), as a read-only view.
+  for (const ResultArrayField<NightRetrieval>& field : night_retrieval_fields()) {
+    const std::string doc = std::string(field.meaning) + " [" + field.axes + "] (" + field.units +
+                            "); axes: a antennas, t samples, w windows, c channels.";
+    std::visit(
+        [&](auto member) {
+          night_retrieval.def_property_readonly(field.name, retrieval_view(member, field.axes),
+                                                doc.c_str());
+        },
+        field.member);
+  }
 
   m.def("retrieve_night", &retrieve, py::arg("night"), py::arg("site") = py::none(), py::kw_only(),
         py::arg("coefficient_window_s") = 60.0, py::arg("fit_liquid") = false,

@@ -19,6 +19,7 @@
 #include "wvr/atmosphere.hpp"
 #include "wvr/night.hpp"
 #include "wvr/pwv_table.hpp"
+#include "wvr/result_fields.hpp"
 #include "wvr/retrieval.hpp"
 
 namespace wvr {
@@ -75,6 +76,11 @@ struct NightRetrieval {
 NightRetrieval retrieve_night(const Night& night,
                               const SiteParameters& site,
                               const NightRetrievalOptions& options = {});
+
+// Every array of a NightRetrieval (axes: a antennas, t samples, w windows, c channels): the
+// one list from which the result group, its reader and the Python properties follow.
+std::span<const ResultArrayField<NightRetrieval>> night_retrieval_fields();
+std::size_t axis_extent(const NightRetrieval& retrieval, char axis);
 
 // The "retrieval" result group of the night file (datasets described in libwvr/FORMAT.md).
 ResultGroup to_result_group(const NightRetrieval& retrieval, const Night& night);

@@ -9,6 +9,7 @@
 #include <type_traits>
 #include <variant>
 
+#include "core/result_field_io.hpp"
 #include "core/statistics.hpp"
 #include "wvr/error.hpp"
 #include "wvr/fast_sky_model.hpp"
@@ -248,6 +249,48 @@ NightRetrieval retrieve_night(const Night& night,
   return out;
 }
 
+std::span<const ResultArrayField<NightRetrieval>> night_retrieval_fields() {
+  using R = NightRetrieval;
+  static const ResultArrayField<R> fields[] = {
+      {"pwv_mm", &R::pwv_mm, "at", "mm", "zenith PWV of each sample (table inversion)"},
+      {"pwv_sigma_mm", &R::pwv_sigma_mm, "at", "mm", "1-sigma error of pwv_mm"},
+      {"chi2_per_dof", &R::chi2_per_dof, "at", "1", "chi-square per degree of freedom"},
+      {"flags", &R::flags, "at", "1", "RetrievalFlag bits (0 = usable)"},
+      {"window_start_s", &R::window_start_s, "w", "s", "start of each coefficient window"},
+      {"window_stop_s", &R::window_stop_s, "w", "s", "end of each coefficient window"},
+      {"window_pwv_mm", &R::window_pwv_mm, "aw", "mm", "PWV of the window fit"},
+      {"window_pwv_sigma_mm", &R::window_pwv_sigma_mm, "aw", "mm", "1-sigma error"},
+      {"window_chi2_per_dof", &R::window_chi2_per_dof, "aw", "1", "window fit chi-square"},
+      {"window_liquid_kg_m2", &R::window_liquid_kg_m2, "aw", "kg/m^2", "fitted liquid water"},
+      {"window_flags", &R::window_flags, "aw", "1", "RetrievalFlag bits of the window fit"},
+      {"path_sensitivity_k_per_mm", &R::path_sensitivity_k_per_mm, "awc", "K/mm",
+       "dT/dL of each channel at the window's state"},
+      {"combination_weight_mm_per_k", &R::combination_weight_mm_per_k, "awc", "mm/K",
+       "minimum-variance path weights"},
+      {"path_noise_mm", &R::path_noise_mm, "aw", "mm", "white path noise per sample"},
+      {"window_model_brightness_k", &R::window_model_brightness_k, "awc", "K",
+       "model brightness at the window's fitted state"},
+      {"window_wet_path_mm", &R::window_wet_path_mm, "aw", "mm", "slant wet path there"},
+      {"window_elevation_deg", &R::window_elevation_deg, "aw", "deg",
+       "mean elevation of the window's samples"},
+  };
+  return fields;
+}
+
+std::size_t axis_extent(const NightRetrieval& r, char axis) {
+  switch (axis) {
+    case 'a':
+      return r.antennas;
+    case 't':
+      return r.samples;
+    case 'w':
+      return r.windows;
+    case 'c':
+      return r.channels;
+  }
+  throw InvalidInput(std::string("NightRetrieval has no axis '") + axis + "'");
+}
+
 ResultGroup to_result_group(const NightRetrieval& r, const Night& night) {
   ResultGroup g;
   g.stage = "retrieval";
@@ -256,29 +299,7 @@ ResultGroup to_result_group(const NightRetrieval& r, const Night& night) {
   g.attributes["flag_bits"] =
       "1 invalid in file, 2 bad brightness, 4 out of domain, 8 no weather, 16 fit failed, 32 no "
       "valid samples";
-  const std::size_t a = r.antennas, t = r.samples, w = r.windows, c = r.channels;
-  auto add = [&](std::string name, std::vector<std::size_t> shape, ResultValues values,
-                 std::string units) {
-    g.datasets.push_back(
-        {std::move(name), std::move(shape), std::move(values), std::move(units), {}});
-  };
-  add("pwv_mm", {a, t}, r.pwv_mm, "mm");
-  add("pwv_sigma_mm", {a, t}, r.pwv_sigma_mm, "mm");
-  add("chi2_per_dof", {a, t}, r.chi2_per_dof, "1");
-  add("flags", {a, t}, r.flags, "1");
-  add("window_start_s", {w}, r.window_start_s, "s");
-  add("window_stop_s", {w}, r.window_stop_s, "s");
-  add("window_pwv_mm", {a, w}, r.window_pwv_mm, "mm");
-  add("window_pwv_sigma_mm", {a, w}, r.window_pwv_sigma_mm, "mm");
-  add("window_chi2_per_dof", {a, w}, r.window_chi2_per_dof, "1");
-  add("window_liquid_kg_m2", {a, w}, r.window_liquid_kg_m2, "kg/m^2");
-  add("window_flags", {a, w}, r.window_flags, "1");
-  add("path_sensitivity_k_per_mm", {a, w, c}, r.path_sensitivity_k_per_mm, "K/mm");
-  add("combination_weight_mm_per_k", {a, w, c}, r.combination_weight_mm_per_k, "mm/K");
-  add("path_noise_mm", {a, w}, r.path_noise_mm, "mm");
-  add("window_model_brightness_k", {a, w, c}, r.window_model_brightness_k, "K");
-  add("window_wet_path_mm", {a, w}, r.window_wet_path_mm, "mm");
-  add("window_elevation_deg", {a, w}, r.window_elevation_deg, "deg");
+  detail::write_result_fields(g, r, night_retrieval_fields());
   (void)night;
   return g;
 }
@@ -297,33 +318,7 @@ NightRetrieval retrieval_from_result_group(const ResultGroup& g) {
   r.samples = pwv->shape[1];
   r.windows = weights->shape[1];
   r.channels = weights->shape[2];
-  auto take = [&](const char* name, std::vector<std::size_t> shape, auto& out) {
-    const ResultDataset* d = g.find(name);
-    using Vector = std::decay_t<decltype(out)>;
-    if (d == nullptr || d->shape != shape || !std::holds_alternative<Vector>(d->values)) {
-      throw InvalidInput("/results/" + g.stage + "/" + name +
-                         " is missing or has an unexpected shape or type");
-    }
-    out = std::get<Vector>(d->values);
-  };
-  const std::size_t a = r.antennas, t = r.samples, w = r.windows, c = r.channels;
-  take("pwv_mm", {a, t}, r.pwv_mm);
-  take("pwv_sigma_mm", {a, t}, r.pwv_sigma_mm);
-  take("chi2_per_dof", {a, t}, r.chi2_per_dof);
-  take("flags", {a, t}, r.flags);
-  take("window_start_s", {w}, r.window_start_s);
-  take("window_stop_s", {w}, r.window_stop_s);
-  take("window_pwv_mm", {a, w}, r.window_pwv_mm);
-  take("window_pwv_sigma_mm", {a, w}, r.window_pwv_sigma_mm);
-  take("window_chi2_per_dof", {a, w}, r.window_chi2_per_dof);
-  take("window_liquid_kg_m2", {a, w}, r.window_liquid_kg_m2);
-  take("window_flags", {a, w}, r.window_flags);
-  take("path_sensitivity_k_per_mm", {a, w, c}, r.path_sensitivity_k_per_mm);
-  take("combination_weight_mm_per_k", {a, w, c}, r.combination_weight_mm_per_k);
-  take("path_noise_mm", {a, w}, r.path_noise_mm);
-  take("window_model_brightness_k", {a, w, c}, r.window_model_brightness_k);
-  take("window_wet_path_mm", {a, w}, r.window_wet_path_mm);
-  take("window_elevation_deg", {a, w}, r.window_elevation_deg);
+  detail::read_result_fields(g, r, night_retrieval_fields());
   return r;
 }
 

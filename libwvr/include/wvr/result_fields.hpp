@@ -1,0 +1,28 @@
+#pragma once
+// Field tables of result types: each array of a result written once, with its name, member,
+// axes and units, so that the night-file result group, the Python properties and the
+// documentation checks all follow from one table.
+//
+// Axes are one letter per dimension, resolved by the result type's own axis_extent(); the
+// letters each type uses are listed beside its table.
+
+#include <cstdint>
+#include <span>
+#include <variant>
+#include <vector>
+
+namespace wvr {
+
+template <typename Result>
+struct ResultArrayField {
+  using DoubleMember = std::vector<double> Result::*;
+  using FlagMember = std::vector<std::uint8_t> Result::*;
+
+  const char* name;  // result dataset and Python property
+  std::variant<DoubleMember, FlagMember> member;
+  const char* axes;   // e.g. "aw": [antenna, window]
+  const char* units;  // "1" for dimensionless values and flags
+  const char* meaning;
+};
+
+}  // namespace wvr
