@@ -19,6 +19,7 @@
 #include "wvr/night_retrieval.hpp"
 #include "wvr/night_site.hpp"
 #include "wvr/night_turbulence.hpp"
+#include "wvr/result_group_readers.hpp"
 #include "wvr/observing_frequency.hpp"
 #include "wvr/phase_screen.hpp"
 #include "wvr/planck.hpp"

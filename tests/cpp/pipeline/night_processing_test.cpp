@@ -7,6 +7,7 @@
 
 #include <filesystem>
 
+#include "pipeline/small_night.hpp"
 #include "test_util.hpp"
 #include "wvr/error.hpp"
 #include "wvr/night_file.hpp"
@@ -17,42 +18,6 @@ namespace wvr {
 namespace {
 
 namespace fs = std::filesystem;
-
-const Night& small_night() {
-  static const Night night = [] {
-    const std::string text = R"(
-name = "pipeline test night"
-seed = 5
-duration_s = 900.0
-integration_s = 1.0
-site_file = "sites/demo-site.toml"
-radiometer_file = "radiometers/demo-183-dsb.toml"
-[array]
-layout = "random"
-antenna_count = 6
-radius_m = 800.0
-[atmosphere]
-pwv_mm = 1.0
-[source]
-declination_deg = -40.0
-start_hour_angle_h = -1.0
-[observing]
-calibrator_scan_s = 90.0
-target_scan_s = 60.0
-obs_freq_ghz = 345.0
-[[turbulence]]
-kind = "wet"
-height_m = 700.0
-thickness_m = 800.0
-outer_scale_m = 5000.0
-wind_east_m_s = 9.0
-wind_north_m_s = 2.0
-path_rms_um = 300.0
-)";
-    return simulate_night(parse_scenario(text, "test.toml", test::testdata("")));
-  }();
-  return night;
-}
 
 template <typename F>
 std::string error_of(F&& f) {
