@@ -140,7 +140,6 @@ PhaseScreen make_night_screen(const TurbulentLayer& layer,
                               std::uint64_t seed,
                               const ScreenOptions& options = {});
 
-
 enum class ScreenAxis { kAlongWind, kAcrossWind };
 
 // Mean of (p(x + d) - p(x))^2 over every pair of grid points d apart along `axis` (pairs that
