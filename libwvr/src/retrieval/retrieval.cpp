@@ -7,6 +7,7 @@
 #include <cmath>
 #include <limits>
 #include <sstream>
+#include <utility>
 
 #include "wvr/error.hpp"
 
@@ -89,10 +90,12 @@ Layout make_layout(const RetrievalOptions& o, int channels) {
   return l;
 }
 
+// Holds its own copy of the options: a reference into the Retriever would dangle once the
+// Retriever is moved (the night retrieval moves them into per-node tools).
 class ChannelCost final : public ceres::CostFunction {
  public:
-  ChannelCost(const FastSkyModel& model, const RetrievalOptions& options, const Layout& layout)
-      : model_(model), options_(options), layout_(layout), ws_(model.make_workspace()) {
+  ChannelCost(const FastSkyModel& model, RetrievalOptions options, const Layout& layout)
+      : model_(model), options_(std::move(options)), layout_(layout), ws_(model.make_workspace()) {
     const std::size_t c = model.channel_count();
     set_num_residuals(static_cast<int>(c) + layout.priors);
     mutable_parameter_block_sizes()->push_back(layout.size);
@@ -165,7 +168,7 @@ class ChannelCost final : public ceres::CostFunction {
 
  private:
   const FastSkyModel& model_;
-  const RetrievalOptions& options_;
+  const RetrievalOptions options_;
   Layout layout_;
   RetrievalInput input_;
   mutable FastSkyModel::Workspace ws_;
