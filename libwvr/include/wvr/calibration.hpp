@@ -51,10 +51,12 @@ const char* to_string(CalibrationStatus status);
 struct CalibrationResult {
   CalibrationStatus status = CalibrationStatus::kNoData;
   std::string message;
-  double scale = 1.0;  // array scale (segment 0 when segmented)
+  double scale = 1.0;  // array scale (first segment when segmented)
   double scale_sigma = 0.0;
   std::vector<double> antenna_scale,
       antenna_scale_sigma;  // [antenna]; equal to scale if not fitted
+  // Segments holding calibrator rows only (a segment within target scans has no scale); a
+  // sigma is NaN when the covariance is not available.
   std::vector<double> segment_start_s, segment_scale, segment_scale_sigma;
   std::size_t rows_used = 0, rows_skipped = 0;
   double final_cost = 0.0;

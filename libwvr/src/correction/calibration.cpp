@@ -224,9 +224,17 @@ CalibrationResult solve_scaling(const Night& night,
   }
   closed_form_cost(rows, best_scale, sums);
 
-  // Parameters.
-  std::size_t segments = 1;
-  for (const Row& r : rows) segments = std::max(segments, r.segment + 1);
+  // Parameters. Only segments holding rows get a scale (a segment shorter than the calibrator
+  // cycle can fall entirely within target scans); they are renumbered in time order.
+  std::map<std::size_t, std::size_t> segment_index;
+  for (const Row& r : rows) segment_index.emplace(r.segment, 0);
+  std::vector<std::size_t> segment_number;
+  for (auto& [number, index] : segment_index) {
+    index = segment_number.size();
+    segment_number.push_back(number);
+  }
+  for (Row& r : rows) r.segment = segment_index.at(r.segment);
+  const std::size_t segments = segment_number.size();
   std::vector<double> segment_scale(segments, best_scale);
   std::vector<double> ratio(na, 1.0);
   std::map<std::pair<std::size_t, std::size_t>, double> offsets;  // (scan, antenna), antenna != ref
@@ -242,6 +250,18 @@ CalibrationResult solve_scaling(const Night& night,
       offsets[{scan, pair.second}] = std::atan2(s.second, s.first);
     if (pair.second == ref && pair.first != ref)
       offsets[{scan, pair.first}] = -std::atan2(s.second, s.first);
+  }
+
+  // Each row is one phase: fewer rows than free parameters (a scale per segment, an offset per
+  // calibrator scan and antenna) leave the solve undetermined, and its zero residual would read
+  // as a perfect fit.
+  const std::size_t free_parameters = segments + offsets.size();
+  if (rows.size() <= free_parameters) {
+    result.message = std::to_string(rows.size()) +
+                     " usable calibrator phase rows cannot determine " +
+                     std::to_string(free_parameters) +
+                     " parameters (a scale per segment, a phase offset per scan and antenna)";
+    return result;
   }
 
   ceres::Problem problem;
@@ -312,11 +332,16 @@ CalibrationResult solve_scaling(const Night& night,
     result.message +=
         (result.message.empty() ? "" : "; ") + std::string("covariance not available");
 
+  // NaN (no covariance) stays NaN: std::max(0.0, NaN) would report a zero uncertainty.
+  auto standard_deviation = [](double variance) {
+    return std::isnan(variance) ? variance : std::sqrt(std::max(0.0, variance));
+  };
   for (std::size_t s = 0; s < segments; ++s) {
-    result.segment_start_s.push_back(t0 + options.segment_s * static_cast<double>(s));
+    result.segment_start_s.push_back(t0 +
+                                     options.segment_s * static_cast<double>(segment_number[s]));
     result.segment_scale.push_back(segment_scale[s]);
     result.segment_scale_sigma.push_back(
-        std::sqrt(std::max(0.0, cov(&segment_scale[s], &segment_scale[s]))));
+        standard_deviation(cov(&segment_scale[s], &segment_scale[s])));
   }
   result.scale = segment_scale[0];
   result.scale_sigma = result.segment_scale_sigma[0];
@@ -332,7 +357,7 @@ CalibrationResult solve_scaling(const Night& night,
     const double csr = cov(&segment_scale[0], &ratio[a]);
     const double var = ratio[a] * ratio[a] * vs + segment_scale[0] * segment_scale[0] * vr +
                        2.0 * segment_scale[0] * ratio[a] * csr;
-    result.antenna_scale_sigma[a] = std::sqrt(std::max(0.0, var));
+    result.antenna_scale_sigma[a] = standard_deviation(var);
   }
   return result;
 }

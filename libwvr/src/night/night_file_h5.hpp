@@ -9,6 +9,7 @@
 
 #include <cstdint>
 #include <filesystem>
+#include <memory>
 #include <string>
 #include <vector>
 
@@ -142,12 +143,20 @@ class Reader {
 
 // ---- writing ----------------------------------------------------------------------------
 
-// A new (or copied) file open for writing. Failures throw wvr::Error naming `source`.
+// A night file built in memory (HDF5's core driver, no backing store) and written out in one
+// piece by close_into(). Nothing touches the disk until then, so a failed write (a full disk)
+// is one checked POSIX write, and the HDF5 file is always closed when the Writer goes away:
+// a file left open would be flushed again by HDF5's exit handler.
+// Failures throw wvr::Error naming `source`.
 class Writer {
  public:
-  enum class Mode { kCreate, kAppend };
+  // `start_from` empty: a new file; else a copy of that file's bytes to add objects to.
   // `gzip_level` 1-9 compresses chunked datasets (after byte shuffle); 0 leaves them raw.
-  Writer(const std::filesystem::path& path, Mode mode, std::string source, int gzip_level);
+  // Every non-scalar, non-empty dataset is chunked and carries a Fletcher-32 checksum.
+  Writer(const std::filesystem::path& start_from, std::string source, int gzip_level);
+  ~Writer();
+  Writer(const Writer&) = delete;
+  Writer& operator=(const Writer&) = delete;
 
   hid_t file() const { return file_.get(); }
   [[noreturn]] void fail(const std::string& object_path, const std::string& what) const;
@@ -172,7 +181,8 @@ class Writer {
                         double value) const;
 
   // Writes a numeric dataset of `shape` from `data` (row-major), with a units attribute.
-  // `chunk` empty: contiguous layout; otherwise chunked (and compressed, see gzip_level).
+  // `chunk` empty: one chunk holding the whole dataset; otherwise this chunk shape
+  // (compressed, see gzip_level).
   Id write_array(const std::string& path,
                  hid_t file_type,
                  hid_t memory_type,
@@ -184,12 +194,21 @@ class Writer {
                    const std::vector<std::string>& values,
                    const std::string& units) const;
 
-  // Closes the file, failing if the final flush fails.
-  void close();
+  // Closes the file and writes its bytes to `file` (created, must not exist). A full disk
+  // throws Error "<source>: cannot be written: no space left on device".
+  void close_into(const std::filesystem::path& file);
 
  private:
+  // Dataset creation properties: chunked by `chunk`, optionally compressed, with a checksum.
+  Id checked_layout(const std::string& path,
+                    const Shape& shape,
+                    const Shape& chunk,
+                    bool compress) const;
+
+  struct Image;
   std::string source_;
   int gzip_level_ = 4;
+  std::unique_ptr<Image> image_;  // declared before file_: outlives the open file
   Id file_;
 };
 

@@ -1,6 +1,15 @@
 // Checked writing of night file objects (wvr::detail::h5::Writer).
 
+#include <fcntl.h>
+#include <unistd.h>
+
 #include <algorithm>
+#include <atomic>
+#include <cerrno>
+#include <cstdlib>
+#include <cstring>
+#include <fstream>
+#include <iterator>
 #include <utility>
 
 #include "night/night_file_h5.hpp"
@@ -8,25 +17,82 @@
 
 namespace wvr::detail::h5 {
 
-Writer::Writer(const std::filesystem::path& path, Mode mode, std::string source, int gzip_level)
-    : source_(std::move(source)), gzip_level_(gzip_level) {
-  // Strong close: closing the file closes (and flushes) every object still open in it, so a
-  // successful close() means the whole file has been written.
+namespace {
+
+std::vector<char> file_bytes(const std::filesystem::path& path, const std::string& source) {
+  std::ifstream in(path, std::ios::binary);
+  std::vector<char> bytes;
+  if (in) bytes.assign(std::istreambuf_iterator<char>(in), std::istreambuf_iterator<char>());
+  if (!in.good() && !in.eof()) {
+    throw Error(source + ": cannot read " + path.string() + ": " + std::strerror(errno));
+  }
+  return bytes;
+}
+
+}  // namespace
+
+// The core driver's memory, allocated through HDF5's file image callbacks (HDF5 1.10 "File
+// Image Operations"): when HDF5 closes the file it hands the buffer to image_free, which keeps
+// it. The kept bytes are the file exactly as HDF5 would have written it at close.
+struct Writer::Image {
+  void* kept = nullptr;
+  ~Image() { std::free(kept); }
+
+  static void* allocate(std::size_t size, H5FD_file_image_op_t, void*) { return std::malloc(size); }
+  static void* copy(
+      void* destination, const void* source, std::size_t size, H5FD_file_image_op_t, void*) {
+    return std::memcpy(destination, source, size);
+  }
+  static void* resize(void* pointer, std::size_t size, H5FD_file_image_op_t, void*) {
+    return std::realloc(pointer, size);
+  }
+  static herr_t release(void* pointer, H5FD_file_image_op_t op, void* user) {
+    auto* image = static_cast<Image*>(user);
+    if (op == H5FD_FILE_IMAGE_OP_FILE_CLOSE && image->kept == nullptr) {
+      image->kept = pointer;
+      return 0;
+    }
+    std::free(pointer);
+    return 0;
+  }
+  static void* share(void* user) { return user; }
+  static herr_t unshare(void*) { return 0; }
+};
+
+Writer::Writer(const std::filesystem::path& start_from, std::string source, int gzip_level)
+    : source_(std::move(source)), gzip_level_(gzip_level), image_(std::make_unique<Image>()) {
+  // Strong close: closing the file closes every object still open in it.
   Id fapl(H5Pcreate(H5P_FILE_ACCESS), H5Pclose);
   H5Pset_fclose_degree(fapl.get(), H5F_CLOSE_STRONG);
   // HDF5 1.8 file format (readable by HDF5 1.8 and later): objects get version 2 headers
   // ("OHDR" signature), which carry a checksum (HDF5 File Format Specification 2.0, from
   // memory), so a damaged header is reported as an error instead of being parsed.
   H5Pset_libver_bounds(fapl.get(), H5F_LIBVER_V18, H5F_LIBVER_V18);
-  if (mode == Mode::kCreate) {
-    file_ = Id(H5Fcreate(path.c_str(), H5F_ACC_EXCL, H5P_DEFAULT, fapl.get()), H5Fclose);
+  // In memory, grown 1 MiB at a time, never written back by HDF5.
+  H5Pset_fapl_core(fapl.get(), 1 << 20, false);
+  H5FD_file_image_callbacks_t callbacks{&Image::allocate, &Image::copy,  &Image::resize,
+                                        &Image::release,  &Image::share, &Image::unshare,
+                                        image_.get()};
+  if (H5Pset_file_image_callbacks(fapl.get(), &callbacks) < 0) {
+    throw Error(with_cause(source_ + ": cannot be set up for writing in memory"));
+  }
+  // The in-memory file's name only identifies it inside HDF5; no file of that name is made.
+  static std::atomic<unsigned> counter{0};
+  const std::string name =
+      "wvr-in-memory-" + std::to_string(::getpid()) + "-" + std::to_string(counter++) + ".h5";
+  if (start_from.empty()) {
+    file_ = Id(H5Fcreate(name.c_str(), H5F_ACC_TRUNC, H5P_DEFAULT, fapl.get()), H5Fclose);
   } else {
-    file_ = Id(H5Fopen(path.c_str(), H5F_ACC_RDWR, fapl.get()), H5Fclose);
+    std::vector<char> bytes = file_bytes(start_from, source_);
+    if (H5Pset_file_image(fapl.get(), bytes.data(), bytes.size()) < 0) {
+      throw Error(with_cause(source_ + ": cannot take a copy of " + start_from.string()));
+    }
+    file_ = Id(H5Fopen(name.c_str(), H5F_ACC_RDWR, fapl.get()), H5Fclose);
   }
-  if (file_.get() < 0) {
-    throw Error(with_cause(source_ + ": cannot create " + path.string() + " for writing"));
-  }
+  if (file_.get() < 0) throw Error(with_cause(source_ + ": cannot be set up for writing"));
 }
+
+Writer::~Writer() = default;
 
 void Writer::fail(const std::string& object_path, const std::string& what) const {
   throw Error(with_cause(source_ + ": " + object_path + " " + what));
@@ -121,6 +187,27 @@ Id simple_space(const Shape& shape) {
 
 }  // namespace
 
+Id Writer::checked_layout(const std::string& path,
+                          const Shape& shape,
+                          const Shape& chunk,
+                          bool compress) const {
+  Id dcpl(H5Pcreate(H5P_DATASET_CREATE), H5Pclose);
+  // Filters need chunked storage, which needs a simple dataspace with at least one element;
+  // scalars and empty datasets stay contiguous (no values to protect in the latter).
+  if (shape.empty() || element_count(shape) == 0) return dcpl;
+  if (H5Pset_chunk(dcpl.get(), static_cast<int>(chunk.size()), chunk.data()) < 0) {
+    fail(path, "cannot be set up for chunked storage");
+  }
+  if (compress && gzip_level_ > 0 &&
+      (H5Pset_shuffle(dcpl.get()) < 0 ||
+       H5Pset_deflate(dcpl.get(), static_cast<unsigned>(gzip_level_)) < 0)) {
+    fail(path, "cannot be set up for gzip compression");
+  }
+  // Last in the pipeline: the checksum covers the bytes as stored, verified on every read.
+  if (H5Pset_fletcher32(dcpl.get()) < 0) fail(path, "cannot be set up with a checksum");
+  return dcpl;
+}
+
 Id Writer::write_array(const std::string& path,
                        hid_t file_type,
                        hid_t memory_type,
@@ -129,16 +216,7 @@ Id Writer::write_array(const std::string& path,
                        const Shape& chunk,
                        const std::string& units) const {
   Id space = simple_space(shape);
-  Id dcpl(H5Pcreate(H5P_DATASET_CREATE), H5Pclose);
-  if (!chunk.empty()) {
-    if (H5Pset_chunk(dcpl.get(), static_cast<int>(chunk.size()), chunk.data()) < 0) {
-      fail(path, "cannot be set up for chunked storage");
-    }
-    if (gzip_level_ > 0 && (H5Pset_shuffle(dcpl.get()) < 0 ||
-                            H5Pset_deflate(dcpl.get(), static_cast<unsigned>(gzip_level_)) < 0)) {
-      fail(path, "cannot be set up for gzip compression");
-    }
-  }
+  Id dcpl = checked_layout(path, shape, chunk.empty() ? shape : chunk, !chunk.empty());
   Id dataset(H5Dcreate2(file(), path.c_str(), file_type, space.get(), H5P_DEFAULT, dcpl.get(),
                         H5P_DEFAULT),
              H5Dclose);
@@ -158,7 +236,8 @@ Id Writer::write_strings(const std::string& path,
   for (const std::string& value : values) size = std::max(size, value.size());
   Id type = fixed_string_type(size);
   Id space = simple_space({values.size()});
-  Id dataset(H5Dcreate2(file(), path.c_str(), type.get(), space.get(), H5P_DEFAULT, H5P_DEFAULT,
+  Id dcpl = checked_layout(path, {values.size()}, {values.size()}, false);
+  Id dataset(H5Dcreate2(file(), path.c_str(), type.get(), space.get(), H5P_DEFAULT, dcpl.get(),
                         H5P_DEFAULT),
              H5Dclose);
   if (dataset.get() < 0) fail(path, "cannot be created");
@@ -172,8 +251,37 @@ Id Writer::write_strings(const std::string& path,
   return dataset;
 }
 
-void Writer::close() {
-  if (!file_.reset()) fail("/", "cannot be flushed and closed (disk full?)");
+void Writer::close_into(const std::filesystem::path& file) {
+  if (H5Fflush(file_.get(), H5F_SCOPE_GLOBAL) < 0) fail("/", "cannot be flushed");
+  // The size of the file's image (its end of allocated space), not of the in-memory buffer,
+  // which grows in whole increments. The bytes themselves are taken after the close, which
+  // clears the superblock's open-for-writing flags.
+  const ssize_t image_size = H5Fget_file_image(file_.get(), nullptr, 0);
+  if (image_size <= 0) fail("/", "has no known size");
+  const auto size = static_cast<std::size_t>(image_size);
+  if (!file_.reset() || image_->kept == nullptr) fail("/", "cannot be closed");
+  const char* bytes = static_cast<const char*>(image_->kept);
+  const int fd = ::open(file.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0666);
+  if (fd < 0) {
+    throw Error(source_ + ": cannot create " + file.string() + ": " + std::strerror(errno));
+  }
+  std::size_t done = 0;
+  while (done < size) {
+    const ssize_t n = ::write(fd, bytes + done, size - done);
+    if (n < 0 && errno == EINTR) continue;
+    if (n <= 0) {
+      const int error = n < 0 ? errno : ENOSPC;
+      ::close(fd);
+      // strerror(ENOSPC) is "No space left on device"; said in our words, lower case.
+      throw Error(source_ + ": cannot be written: " +
+                  (error == ENOSPC ? std::string("no space left on device")
+                                   : std::string(std::strerror(error))));
+    }
+    done += static_cast<std::size_t>(n);
+  }
+  if (::close(fd) != 0) {
+    throw Error(source_ + ": cannot be written: " + std::string(std::strerror(errno)));
+  }
 }
 
 }  // namespace wvr::detail::h5

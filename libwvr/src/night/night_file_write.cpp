@@ -4,11 +4,14 @@
 // holds a complete file.
 
 #include <fcntl.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include <atomic>
 #include <cerrno>
 #include <chrono>
+#include <csignal>
+#include <cstdlib>
 #include <set>
 #include <string>
 #include <system_error>
@@ -50,17 +53,51 @@ void sync_directory(const fs::path& path) {
   ::close(fd);
 }
 
+// Temporary files of `destination` are named ".<file name>.tmp-<pid>-<ticks>-<count>".
+std::string temporary_prefix(const fs::path& destination) {
+  return "." + destination.filename().string() + ".tmp-";
+}
+
+// Removes temporary files a killed writer left beside `destination`: only regular files of
+// ours (our prefix, owned by this user) whose writing process no longer exists.
+void remove_stale_temporaries(const fs::path& destination) {
+  const std::string prefix = temporary_prefix(destination);
+  const fs::path directory =
+      destination.parent_path().empty() ? fs::path(".") : destination.parent_path();
+  std::error_code ec;
+  for (fs::directory_iterator it(directory, ec), end; !ec && it != end; it.increment(ec)) {
+    const std::string name = it->path().filename().string();
+    if (name.compare(0, prefix.size(), prefix) != 0) continue;
+    const std::string rest = name.substr(prefix.size());
+    const std::size_t dash = rest.find('-');
+    if (dash == 0 || dash == std::string::npos || rest.find_first_not_of("0123456789") != dash) {
+      continue;
+    }
+    const long pid = std::strtol(rest.substr(0, dash).c_str(), nullptr, 10);
+    if (pid <= 0 || pid == ::getpid() || ::kill(static_cast<pid_t>(pid), 0) == 0 ||
+        errno != ESRCH) {
+      continue;
+    }
+    struct stat info {};
+    if (::lstat(it->path().c_str(), &info) != 0 || !S_ISREG(info.st_mode) ||
+        info.st_uid != ::geteuid()) {
+      continue;
+    }
+    std::error_code ignored;
+    fs::remove(it->path(), ignored);
+  }
+}
+
 // A file being built under a temporary name beside its destination; removed unless
 // published.
 class PendingFile {
  public:
   explicit PendingFile(const fs::path& destination) : destination_(destination) {
+    remove_stale_temporaries(destination);
     static std::atomic<unsigned> counter{0};
     const auto ticks = std::chrono::steady_clock::now().time_since_epoch().count();
-    std::string name(1, '.');
-    name += destination.filename().string();
-    name += ".tmp-" + std::to_string(::getpid()) + "-" + std::to_string(ticks) + "-" +
-            std::to_string(counter++);
+    const std::string name = temporary_prefix(destination) + std::to_string(::getpid()) + "-" +
+                             std::to_string(ticks) + "-" + std::to_string(counter++);
     temporary_ = destination.parent_path() / name;
   }
   PendingFile(const PendingFile&) = delete;
@@ -108,6 +145,10 @@ void check_output(const fs::path& output, const NightWriteOptions& options, cons
   }
   if (!fs::exists(output, ec)) return;
   if (fs::is_directory(output, ec)) throw InvalidInput(name + ": is a directory");
+  // A FIFO or a device node would be replaced by the rename; only files are ever replaced.
+  if (!fs::is_regular_file(output, ec)) {
+    throw InvalidInput(name + ": is not a regular file; only regular files are replaced");
+  }
   if (input != nullptr && fs::equivalent(*input, output, ec)) {
     throw InvalidInput(name + ": is the input file; results are written to a new file");
   }
@@ -332,8 +373,7 @@ void write_night(const Night& night, const fs::path& path, const NightWriteOptio
   check_output(path, options, nullptr);
   PendingFile pending(path);
   {
-    Writer writer(pending.temporary(), Writer::Mode::kCreate, path.string(),
-                  options.compression_level);
+    Writer writer({}, path.string(), options.compression_level);
     Id root(H5Gopen2(writer.file(), "/", H5P_DEFAULT), H5Gclose);
     writer.string_attribute(root.get(), "/", "schema", kNightSchemaName);
     writer.int_attribute(root.get(), "/", "schema_version", kNightSchemaVersion);
@@ -351,7 +391,7 @@ void write_night(const Night& night, const fs::path& path, const NightWriteOptio
       for (const ResultGroup& group : night.results) write_result_group(writer, group);
     }
     root.reset();
-    writer.close();
+    writer.close_into(pending.temporary());
   }
   pending.publish(options.overwrite_output);
 }
@@ -379,22 +419,14 @@ void add_result_groups(const fs::path& input,
   }
 
   PendingFile pending(output);
-  std::error_code ec;
-  fs::copy_file(input, pending.temporary(), ec);
-  if (ec)
-    throw Error(input.string() + ": cannot be copied to " + output.string() + ": " + ec.message());
-  // The copy carries the input's permission bits; the owner needs write access to append.
-  fs::permissions(pending.temporary(), fs::perms::owner_read | fs::perms::owner_write,
-                  fs::perm_options::add, ec);
   {
-    Writer writer(pending.temporary(), Writer::Mode::kAppend, output.string(),
-                  options.compression_level);
+    Writer writer(input, output.string(), options.compression_level);
     ensure_results_group(writer);
     for (const ResultGroup& group : groups) {
       if (existing.count(group.stage) > 0) writer.delete_link("/results/" + group.stage);
       write_result_group(writer, group);
     }
-    writer.close();
+    writer.close_into(pending.temporary());
   }
   pending.publish(options.overwrite_output);
 }

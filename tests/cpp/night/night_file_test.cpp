@@ -360,7 +360,8 @@ TEST_F(NightFileTest, StorageFollowsTheFormatDescription) {
     EXPECT_GT(H5Aexists_by_name(handle.id, name.c_str(), "units", H5P_DEFAULT), 0) << name;
   }
 
-  // Per-sample datasets: chunks of one antenna x 4096 samples, shuffled and gzip level 4.
+  // Per-sample datasets: chunks of one antenna x 4096 samples, shuffled, gzip level 4 and a
+  // Fletcher-32 checksum.
   const auto expect_chunks = [&](const char* name, std::vector<hsize_t> expected) {
     H5Handle dataset{H5Dopen2(handle.id, name, H5P_DEFAULT), H5Dclose};
     H5Handle dcpl{H5Dget_create_plist(dataset.id), H5Pclose};
@@ -369,7 +370,7 @@ TEST_F(NightFileTest, StorageFollowsTheFormatDescription) {
               static_cast<int>(expected.size()))
         << name;
     EXPECT_EQ(chunk, expected) << name;
-    ASSERT_EQ(H5Pget_nfilters(dcpl.id), 2) << name;
+    ASSERT_EQ(H5Pget_nfilters(dcpl.id), 3) << name;
     unsigned flags = 0;
     std::size_t count = 1;
     unsigned level = 0;
@@ -379,6 +380,9 @@ TEST_F(NightFileTest, StorageFollowsTheFormatDescription) {
     EXPECT_EQ(H5Pget_filter2(dcpl.id, 1, &flags, &count, &level, 0, nullptr, nullptr),
               H5Z_FILTER_DEFLATE);
     EXPECT_EQ(level, 4u) << name;
+    count = 0;
+    EXPECT_EQ(H5Pget_filter2(dcpl.id, 2, &flags, &count, nullptr, 0, nullptr, nullptr),
+              H5Z_FILTER_FLETCHER32);
   };
   expect_chunks("/radiometer/brightness_k", {1, 4096, 4});
   expect_chunks("/radiometer/valid", {1, 4096});
