@@ -225,3 +225,30 @@ def test_wrong_python_types_raise_type_error(demo_profile, sky):
         sky.spectrum("not a profile", 183.31, 45.0)
     with pytest.raises(TypeError):
         wvr.parametric_profile(pwv_mm="one")
+
+
+def test_every_exception_class_of_the_package_derives_from_wvr_error():
+    import importlib
+    import pkgutil
+
+    # Every module of the package except the command-line entry points (importing runs them).
+    modules = [wvr] + [importlib.import_module(info.name)
+                       for info in pkgutil.walk_packages(wvr.__path__, prefix="wvr.")
+                       if not info.name.endswith("__main__")]
+    found = []
+    for module in modules:
+        for value in vars(module).values():
+            if (isinstance(value, type) and issubclass(value, BaseException)
+                    and value.__module__.startswith("wvr")):
+                found.append(value)
+                assert issubclass(value, wvr.WvrError), value
+    assert {wvr.WvrError, wvr.WvrValueError, wvr.WvrKeyError} <= set(found)
+    assert len(found) > 3  # the report's input error too
+
+
+def test_a_missing_dataset_is_a_key_error_and_a_wvr_error():
+    assert issubclass(wvr.WvrKeyError, KeyError) and issubclass(wvr.WvrKeyError, wvr.WvrError)
+    group = wvr.ResultGroup("stage", {"a_k": ([1.0], "K")})
+    for base in (KeyError, wvr.WvrError, wvr.WvrKeyError):
+        with pytest.raises(base, match="no dataset 'b'"):
+            group["b"]

@@ -6,6 +6,7 @@
 #include <pybind11/pybind11.h>
 
 #include <optional>
+#include <stdexcept>
 #include <string>
 #include <vector>
 
@@ -15,6 +16,11 @@
 namespace wvr::python {
 
 namespace py = pybind11;
+
+// Raised for a name that is not there; reaches Python as wvr.WvrKeyError (a KeyError).
+struct MissingKey : std::runtime_error {
+  using std::runtime_error::runtime_error;
+};
 
 void export_errors(py::module_& m);
 void export_atmosphere(py::module_& m);
@@ -34,6 +40,7 @@ void export_simulator(py::module_& m);
 void export_retrieval(py::module_& m);
 void export_correction(py::module_& m);
 void export_night_processing(py::module_& m);
+void export_streaming(py::module_& m);
 
 // C-contiguous float64 arrays, converted from any array-like (lists, scalars, integer arrays).
 using DoubleArray = py::array_t<double, py::array::c_style | py::array::forcecast>;

@@ -176,7 +176,7 @@ py::array dataset_view(const ResultDataset& dataset, py::handle owner) {
 const ResultDataset& dataset_named(const ResultGroup& group, const std::string& name) {
   const ResultDataset* dataset = group.find(name);
   if (dataset == nullptr) {
-    throw py::key_error("result group '" + group.stage + "' has no dataset '" + name + "'");
+    throw MissingKey("result group '" + group.stage + "' has no dataset '" + name + "'");
   }
   return *dataset;
 }

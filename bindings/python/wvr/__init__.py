@@ -3,7 +3,8 @@
 Every quantity carries its unit in its name (``pwv_mm``, ``freq_ghz``, ``brightness_k``,
 ``elevation_deg``); arrays go in and come out as numpy arrays. Bad input raises
 :class:`WvrValueError`, which is both a :class:`WvrError` and a :class:`ValueError`, with a
-message naming the offending field and its value.
+message naming the offending field and its value. Every error the package raises derives from
+:class:`WvrError` (a missing name: :class:`WvrKeyError`, also a :class:`KeyError`).
 
 Example::
 
@@ -40,6 +41,14 @@ Single stages::
     scale = wvr.solve_scaling(night, retrieval)   # CalibrationResult
     corrections, metrics = wvr.correct_night(night, retrieval,
                                              antenna_scale=scale.antenna_scale)
+
+Real-time correction, one integration at a time (prototyping correlator-side code)::
+
+    corrector = wvr.StreamingCorrector.from_retrieval(
+        retrieval, time_s=0.0, obs_freq_ghz=230.0, scale=scale.antenna_scale,
+        phase_per_path=corrections.phase_per_path)
+    out = corrector.process(night.brightness_k[:, 0, :], night.valid[:, 0])
+    out["phase_correction_rad"]                   # [antenna]
 """
 
 import collections.abc as _collections_abc
@@ -49,6 +58,9 @@ from wvr import _core
 from wvr._core import (
     AntennaMetrics,
     AntennaPaths,
+    CORRECTOR_BAD_BRIGHTNESS,
+    CORRECTOR_NO_COEFFICIENTS,
+    CORRECTOR_NO_DATA,
     AtmosphereProfile,
     BaselineMetrics,
     BrokenPowerLawFit,
@@ -85,7 +97,9 @@ from wvr._core import (
     SwitchingAdvice,
     WindEstimate,
     WindowDiagnosis,
+    StreamingCorrector,
     WvrError,
+    WvrKeyError,
     WvrValueError,
     __version__,
     absorption,
@@ -220,7 +234,12 @@ __all__ = [
     "SwitchingAdvice",
     "WindEstimate",
     "WindowDiagnosis",
+    "StreamingCorrector",
+    "CORRECTOR_NO_DATA",
+    "CORRECTOR_BAD_BRIGHTNESS",
+    "CORRECTOR_NO_COEFFICIENTS",
     "WvrError",
+    "WvrKeyError",
     "WvrValueError",
     "__version__",
     "absorption",

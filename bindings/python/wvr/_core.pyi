@@ -25,6 +25,9 @@ class WvrError(Exception):
 class WvrValueError(WvrError, ValueError):
     """Bad input; the message names the offending field and its value."""
 
+class WvrKeyError(WvrError, KeyError):
+    """A name that is not there, e.g. a dataset a result group does not hold."""
+
 # --- atmosphere -----------------------------------------------------------------------------
 
 class InversionDict(TypedDict):
@@ -1364,3 +1367,74 @@ def process_night(
 
 def load_diagnosis_thresholds(path: PathLike) -> DiagnosisThresholds: ...
 def describe_antenna_faults(faults: int) -> str: ...
+
+# --- real-time correction -------------------------------------------------------------------
+
+CORRECTOR_NO_DATA: int  # flag bit: the antenna's sample is marked invalid
+CORRECTOR_BAD_BRIGHTNESS: int  # flag bit: NaN or implausible brightness in a channel
+CORRECTOR_NO_COEFFICIENTS: int  # flag bit: no usable coefficients for the antenna
+
+class CorrectorOutput(TypedDict):
+    path_mm: FloatArray  # mm, [antenna] ([time, antenna] from process_many); NaN when flagged
+    phase_correction_rad: FloatArray  # rad, added to the antenna phase; 0 when flagged
+    flags: UInt8Array  # CORRECTOR_* bits, 0 = corrected
+
+class StreamingCorrector:
+    """The real-time corrector: one integration of every antenna at a time."""
+
+    def __init__(
+        self,
+        antennas: int,
+        channels: int,
+        obs_freq_ghz: float,  # GHz
+        *,
+        weight_mm_per_k: ArrayLike,  # mm/K, [antenna, channel]
+        reference_brightness_k: ArrayLike,  # K, [antenna, channel]
+        reference_path_mm: ArrayLike,  # mm, [antenna]
+        scale: Optional[ArrayLike] = None,  # [antenna], default 1
+        usable: Optional[ArrayLike] = None,  # [antenna] 0/1, default 1
+        phase_per_path: float = 1.0,  # dispersion factor (correct_night's "phase_per_path")
+        max_brightness_k: float = 400.0,  # K; above, below 0 or NaN: implausible
+    ) -> None: ...
+    @staticmethod
+    def from_retrieval(
+        retrieval: NightRetrieval,
+        time_s: float,  # s; the coefficient window holding this time
+        obs_freq_ghz: float,  # GHz
+        *,
+        scale: Optional[ArrayLike] = None,  # [antenna], default 1
+        phase_per_path: float = 1.0,
+        max_brightness_k: float = 400.0,  # K
+    ) -> StreamingCorrector: ...
+    @property
+    def antennas(self) -> int: ...
+    @property
+    def channels(self) -> int: ...
+    @property
+    def obs_freq_ghz(self) -> float: ...  # GHz
+    @property
+    def phase_per_path(self) -> float: ...
+    @property
+    def max_brightness_k(self) -> float: ...  # K
+    def update_coefficients(
+        self,
+        *,
+        weight_mm_per_k: ArrayLike,  # mm/K, [antenna, channel]
+        reference_brightness_k: ArrayLike,  # K, [antenna, channel]
+        reference_path_mm: ArrayLike,  # mm, [antenna]
+        scale: Optional[ArrayLike] = None,
+        usable: Optional[ArrayLike] = None,
+    ) -> None: ...
+    def update_from_retrieval(
+        self, retrieval: NightRetrieval, time_s: float, *, scale: Optional[ArrayLike] = None
+    ) -> None: ...
+    def process(
+        self,
+        brightness_k: ArrayLike,  # K, [antenna, channel]
+        valid: Optional[ArrayLike] = None,  # [antenna] 0/1
+    ) -> CorrectorOutput: ...
+    def process_many(
+        self,
+        brightness_k: ArrayLike,  # K, [time, antenna, channel]
+        valid: Optional[ArrayLike] = None,  # [time, antenna] 0/1
+    ) -> CorrectorOutput: ...

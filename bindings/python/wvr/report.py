@@ -58,7 +58,7 @@ _UNKNOWN_VERDICT_COLOUR = "#000000"
 _RC = {"text.parse_math": False, "axes.formatter.use_mathtext": False}
 
 
-class ReportInputError(ValueError):
+class ReportInputError(wvr.WvrValueError):
     """A report input (night file or summary) is missing or malformed."""
 
 
