@@ -6,6 +6,7 @@ packages=(
   libeigen3-dev libceres-dev libhdf5-dev libtomlplusplus-dev libcli11-dev nlohmann-json3-dev
   libgtest-dev libbenchmark-dev
   pybind11-dev python3-dev python3-numpy python3-pytest python3-h5py python3-matplotlib
+  python3-distributed python3-tqdm python3-venv python3-setuptools python3-wheel python3-pip
 )
 missing=()
 for p in "${packages[@]}"; do

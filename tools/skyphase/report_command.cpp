@@ -1,8 +1,5 @@
 // skyphase report: diagnose a night and render the HTML night report (figures by the Python
 // package's wvr.report module with matplotlib).
-#include <spawn.h>
-#include <sys/wait.h>
-
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
@@ -12,9 +9,8 @@
 
 #include "commands.hpp"
 #include "diagnose_output.hpp"
+#include "python_runner.hpp"
 #include "wvr/error.hpp"
-
-extern char** environ;
 
 namespace skyphase {
 namespace {
@@ -23,30 +19,6 @@ struct ReportOptions {
   CommonOptions common;
   std::string directory;
 };
-
-// Runs argv[0] with the given arguments and PYTHONPATH; returns its exit status.
-int run_python(const std::vector<std::string>& args, const std::string& python_path) {
-  std::vector<std::string> env_strings;
-  for (char** e = environ; *e != nullptr; ++e) {
-    if (std::string(*e).rfind("PYTHONPATH=", 0) != 0) env_strings.emplace_back(*e);
-  }
-  const char* existing = std::getenv("PYTHONPATH");
-  env_strings.push_back("PYTHONPATH=" + python_path +
-                        (existing ? std::string(":") + existing : ""));
-  std::vector<char*> argv, envp;
-  for (const std::string& a : args) argv.push_back(const_cast<char*>(a.c_str()));
-  argv.push_back(nullptr);
-  for (std::string& e : env_strings) envp.push_back(e.data());
-  envp.push_back(nullptr);
-  pid_t pid = 0;
-  if (posix_spawn(&pid, argv[0], nullptr, nullptr, argv.data(), envp.data()) != 0) {
-    throw wvr::Error("cannot start " + args[0] +
-                     " (set WVR_PYTHON to a Python with numpy and matplotlib)");
-  }
-  int status = 0;
-  waitpid(pid, &status, 0);
-  return WIFEXITED(status) ? WEXITSTATUS(status) : 1;
-}
 
 void run_report(const ReportOptions& o) {
   const std::filesystem::path dir = o.directory;
@@ -60,11 +32,8 @@ void run_report(const ReportOptions& o) {
     std::ofstream out(summary);
     out << d.json.dump(2) << "\n";
   }
-  const char* python = std::getenv("WVR_PYTHON");
-  const std::string interpreter = python != nullptr ? python : WVR_PYTHON_EXECUTABLE;
-  const int status = run_python({interpreter, "-m", "wvr.report", common.output_file, "--summary",
-                                 summary.string(), "-o", dir.string()},
-                                WVR_PYTHON_PACKAGE_PATH);
+  const int status = run_python_module(
+      "wvr.report", {common.output_file, "--summary", summary.string(), "-o", dir.string()});
   if (status != 0)
     throw wvr::Error("the report renderer (python -m wvr.report) failed with status " +
                      std::to_string(status));
