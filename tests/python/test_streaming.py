@@ -46,15 +46,15 @@ def test_path_and_phase_follow_the_linear_model():
 def test_a_dead_or_implausible_radiometer_flags_only_its_antenna():
     corrector = two_antenna_corrector()
     out = corrector.process([[110.0], [116.0]], valid=[0, 1])
-    assert out["flags"][0] & wvr.CORRECTOR_NO_DATA and out["flags"][1] == 0
+    assert out["flags"][0] & wvr.CorrectorFlag.NO_DATA and out["flags"][1] == 0
     assert out["phase_correction_rad"][0] == 0.0 and math.isnan(out["path_mm"][0])
     assert out["path_mm"][1] == pytest.approx(19.0)
     out = corrector.process([[110.0], [math.nan]])
-    assert out["flags"][0] == 0 and out["flags"][1] & wvr.CORRECTOR_BAD_BRIGHTNESS
+    assert out["flags"][0] == 0 and out["flags"][1] & wvr.CorrectorFlag.BAD_BRIGHTNESS
     out = corrector.process([[500.0], [116.0]])  # above max_brightness_k = 400 K
-    assert out["flags"][0] & wvr.CORRECTOR_BAD_BRIGHTNESS and out["flags"][1] == 0
+    assert out["flags"][0] & wvr.CorrectorFlag.BAD_BRIGHTNESS and out["flags"][1] == 0
     unusable = two_antenna_corrector(usable=[1, 0]).process([[110.0], [116.0]])
-    assert unusable["flags"][1] & wvr.CORRECTOR_NO_COEFFICIENTS and unusable["flags"][0] == 0
+    assert unusable["flags"][1] & wvr.CorrectorFlag.NO_COEFFICIENTS and unusable["flags"][0] == 0
 
 
 def test_updated_coefficients_apply_and_a_bad_set_changes_nothing():

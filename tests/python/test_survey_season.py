@@ -179,10 +179,7 @@ def test_command_line_bad_input_exits_2_with_one_line(tmp_path, args, field):
     assert not (tmp_path / "x.sqlite").exists()
 
 
-def test_skyphase_survey_runs_the_python_command(tmp_path):
-    skyphase = os.environ.get("WVR_SKYPHASE")
-    if not skyphase:
-        pytest.skip("skyphase not built")
+def test_skyphase_survey_runs_the_python_command(tmp_path, skyphase):
     env = dict(os.environ)
     result = subprocess.run([skyphase, "survey", "run", str(tmp_path / "none.h5"),
                              "--catalogue", str(tmp_path / "c.sqlite")],

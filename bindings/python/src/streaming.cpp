@@ -236,7 +236,7 @@ path NaN). Coefficients can be replaced between integrations (update_coefficient
           py::arg("brightness_k"), py::arg("valid") = py::none(), R"doc(
 One integration: brightness_k [antenna, channel] (K), valid [antenna] (1 = usable, default
 all). Returns a dict of read-only arrays [antenna]: path_mm (NaN when flagged),
-phase_correction_rad (0 when flagged) and flags (CorrectorFlag bits, 0 = corrected).
+phase_correction_rad (0 when flagged) and flags (wvr.CorrectorFlag bits, 0 = corrected).
 )doc")
       .def(
           "process_many",
@@ -254,9 +254,11 @@ brightness_k [time, antenna, channel], valid [time, antenna]. Returns the arrays
 with a leading time axis.
 )doc");
 
-  m.attr("CORRECTOR_NO_DATA") = static_cast<int>(kCorrectorNoData);
-  m.attr("CORRECTOR_BAD_BRIGHTNESS") = static_cast<int>(kCorrectorBadBrightness);
-  m.attr("CORRECTOR_NO_COEFFICIENTS") = static_cast<int>(kCorrectorNoCoefficients);
+  // Private: wvr/__init__.py builds wvr.CorrectorFlag from them.
+  m.attr("_CORRECTOR_FLAG_CODES") =
+      py::make_tuple(py::make_tuple("NO_DATA", static_cast<int>(kCorrectorNoData)),
+                     py::make_tuple("BAD_BRIGHTNESS", static_cast<int>(kCorrectorBadBrightness)),
+                     py::make_tuple("NO_COEFFICIENTS", static_cast<int>(kCorrectorNoCoefficients)));
 }
 
 }  // namespace wvr::python

@@ -58,9 +58,6 @@ from wvr import _core
 from wvr._core import (
     AntennaMetrics,
     AntennaPaths,
-    CORRECTOR_BAD_BRIGHTNESS,
-    CORRECTOR_NO_COEFFICIENTS,
-    CORRECTOR_NO_DATA,
     AtmosphereProfile,
     BaselineMetrics,
     BrokenPowerLawFit,
@@ -184,6 +181,13 @@ RetrievalFlag.__doc__ = (
     + ". RETRIEVAL_UNUSABLE masks the bits after which a PWV is not usable; NO_WEATHER is "
     "advisory.")
 
+# Bits of StreamingCorrector's 'flags' output, taken from the library.
+CorrectorFlag = _enum.IntFlag(
+    "CorrectorFlag", list(_core._CORRECTOR_FLAG_CODES), module=__name__, qualname="CorrectorFlag")
+CorrectorFlag.__doc__ = (
+    "Flag bits of StreamingCorrector.process (its 'flags', 0 = corrected): "
+    + ", ".join(f"{s.name} = {s.value}" for s in CorrectorFlag) + ".")
+
 #: Bits of RetrievalFlag after which the retrieved PWV is not usable.
 RETRIEVAL_UNUSABLE = RetrievalFlag(_core._RETRIEVAL_UNUSABLE)
 
@@ -199,6 +203,7 @@ __all__ = [
     "BrokenPowerLawFit",
     "CalibrationResult",
     "ChannelBrightness",
+    "CorrectorFlag",
     "CorrectionMetrics",
     "CycleTimeSolution",
     "DiagnosisThresholds",
@@ -235,9 +240,6 @@ __all__ = [
     "WindEstimate",
     "WindowDiagnosis",
     "StreamingCorrector",
-    "CORRECTOR_NO_DATA",
-    "CORRECTOR_BAD_BRIGHTNESS",
-    "CORRECTOR_NO_COEFFICIENTS",
     "WvrError",
     "WvrKeyError",
     "WvrValueError",

@@ -1370,14 +1370,10 @@ def describe_antenna_faults(faults: int) -> str: ...
 
 # --- real-time correction -------------------------------------------------------------------
 
-CORRECTOR_NO_DATA: int  # flag bit: the antenna's sample is marked invalid
-CORRECTOR_BAD_BRIGHTNESS: int  # flag bit: NaN or implausible brightness in a channel
-CORRECTOR_NO_COEFFICIENTS: int  # flag bit: no usable coefficients for the antenna
-
 class CorrectorOutput(TypedDict):
     path_mm: FloatArray  # mm, [antenna] ([time, antenna] from process_many); NaN when flagged
     phase_correction_rad: FloatArray  # rad, added to the antenna phase; 0 when flagged
-    flags: UInt8Array  # CORRECTOR_* bits, 0 = corrected
+    flags: UInt8Array  # wvr.CorrectorFlag bits, 0 = corrected
 
 class StreamingCorrector:
     """The real-time corrector: one integration of every antenna at a time."""
