@@ -5,7 +5,6 @@
 #include <gtest/gtest.h>
 
 #include <atomic>
-#include <chrono>
 #include <cmath>
 #include <cstdlib>
 #include <cstring>
@@ -559,46 +558,81 @@ TEST(StreamingCorrector, ProcessAllocatesNothing) {
   EXPECT_EQ(mismatched, 10000u);
 }
 
+// Fixed work, no clock, for the thread tests: the writer makes exactly `updates` coefficient
+// updates and each reader exactly `updates * kCallsPerUpdate` calls, in blocks k = 0, 1, ...
+// A reader starting block k waits until the writer has made k updates; the writer makes update
+// k + 1 only once every reader is half-way through block k. So the first half of block k
+// always runs on the coefficients of update k (block 0 on the initial ones; the sets alternate
+// from block to block, so every reader sees both), and update k + 1 lands among the
+// second-half calls, concurrently with them. The amount
+// of work is fixed however the threads are scheduled (under load, sanitizers or a debugger).
+constexpr std::size_t kCallsPerUpdate = 50;
+
+class Lockstep {
+ public:
+  Lockstep(std::size_t updates, int readers) : updates_(updates), reader_calls_(readers) {
+    for (auto& c : reader_calls_) c.store(0);
+  }
+  std::size_t calls_per_reader() const { return updates_ * kCallsPerUpdate; }
+  std::size_t updates_made() const { return made_.load(); }
+  // Writer: before update j (1-based), wait until every reader is half-way through block j - 1.
+  void before_update(std::size_t j) const {
+    const std::size_t need = (j - 1) * kCallsPerUpdate + kCallsPerUpdate / 2;
+    for (const auto& c : reader_calls_)
+      while (c.load() < need) std::this_thread::yield();
+  }
+  void after_update() { made_.fetch_add(1); }
+  // Reader r before its call number `call`.
+  void before_call(int r, std::size_t call) {
+    reader_calls_[static_cast<std::size_t>(r)].store(call);
+    if (call % kCallsPerUpdate == 0)
+      while (made_.load() < call / kCallsPerUpdate) std::this_thread::yield();
+  }
+  void reader_done(int r) {
+    reader_calls_[static_cast<std::size_t>(r)].store(std::numeric_limits<std::size_t>::max());
+  }
+
+ private:
+  std::size_t updates_;
+  std::vector<std::atomic<std::size_t>> reader_calls_;
+  std::atomic<std::size_t> made_{0};
+};
+
 TEST(StreamingCorrector, NothingAllocatesWhileUpdating) {
   const TwoSets sets;
   StreamingCorrector corrector(sets.config, sets.a);
   Outputs out(sets.config.antennas);
-  std::atomic<bool> go{false}, stop{false}, writer_done{false};
-  std::atomic<std::size_t> updates{0};
+  Lockstep lockstep(200, 1);
+  std::atomic<bool> writer_done{false};
+  g_heap_calls.store(0);
   std::thread writer([&] {
-    while (!go.load()) std::this_thread::yield();
     {
       CountHeapOnThisThread count;
-      bool use_b = true;
-      while (!stop.load()) {
-        corrector.update_coefficients(use_b ? sets.b : sets.a);
-        use_b = !use_b;
-        updates.fetch_add(1);
+      for (std::size_t j = 1; j <= 200; ++j) {
+        lockstep.before_update(j);
+        corrector.update_coefficients(j % 2 == 1 ? sets.b : sets.a);
+        lockstep.after_update();
       }
     }
     writer_done.store(true);
   });
 
-  std::size_t calls = 0, ok = 0;
-  g_heap_calls.store(0);
+  std::size_t ok = 0;
   {
     CountHeapOnThisThread count;
-    go.store(true);
-    const auto deadline = std::chrono::steady_clock::now() + std::chrono::seconds(5);
-    while ((calls < 10000 || updates.load() < 200) && std::chrono::steady_clock::now() < deadline) {
-      ok += run(corrector, sets.inputs[calls % 4], sets.valid, out) == CorrectorStatus::kOk;
-      ++calls;
+    for (std::size_t call = 0; call < lockstep.calls_per_reader(); ++call) {
+      lockstep.before_call(0, call);
+      ok += run(corrector, sets.inputs[call % 4], sets.valid, out) == CorrectorStatus::kOk;
     }
-    stop.store(true);
+    lockstep.reader_done(0);
   }
   while (!writer_done.load()) std::this_thread::yield();  // its counts are in now
   const std::size_t heap_calls = g_heap_calls.load();
   writer.join();
-  EXPECT_EQ(heap_calls, 0u) << "over " << calls << " process() and " << updates.load()
-                            << " update_coefficients() calls";
-  EXPECT_GE(calls, 10000u);
-  EXPECT_GE(updates.load(), 200u);
-  EXPECT_EQ(ok, calls);
+  EXPECT_EQ(heap_calls, 0u) << "over " << lockstep.calls_per_reader() << " process() and "
+                            << lockstep.updates_made() << " update_coefficients() calls";
+  EXPECT_EQ(lockstep.updates_made(), 200u);
+  EXPECT_EQ(ok, lockstep.calls_per_reader());
 }
 
 TEST(StreamingCorrector, ConcurrentUpdatesNeverTear) {
@@ -611,32 +645,28 @@ TEST(StreamingCorrector, ConcurrentUpdatesNeverTear) {
   StreamingCorrector corrector(sets.config, sets.a);
 
   constexpr int kReaders = 2;
-  constexpr std::size_t kMinCalls = 20000;
+  constexpr std::size_t kUpdates = 1000;  // 50000 calls per reader
   struct ReaderResult {
     std::size_t calls = 0, saw_a = 0, saw_b = 0, torn = 0, bad_status = 0;
   };
   std::vector<ReaderResult> results(kReaders);
-  std::atomic<int> readers_running{kReaders};
-  std::atomic<std::size_t> updates{0};
-  const auto deadline = std::chrono::steady_clock::now() + std::chrono::seconds(5);
+  Lockstep lockstep(kUpdates, kReaders);
 
   std::thread writer([&] {
-    bool use_b = true;
-    while (readers_running.load() > 0) {
-      corrector.update_coefficients(use_b ? sets.b : sets.a);
-      use_b = !use_b;
-      updates.fetch_add(1);
+    for (std::size_t j = 1; j <= kUpdates; ++j) {
+      lockstep.before_update(j);
+      corrector.update_coefficients(j % 2 == 1 ? sets.b : sets.a);
+      lockstep.after_update();
     }
   });
   std::vector<std::thread> readers;
   for (int r = 0; r < kReaders; ++r) {
     readers.emplace_back([&, r] {
-      ReaderResult& res = results[r];
+      ReaderResult& res = results[static_cast<std::size_t>(r)];
       Outputs out(sets.config.antennas);
-      // Until both sets were seen (the writer makes progress) and enough calls were made.
-      while ((res.calls < kMinCalls || res.saw_a == 0 || res.saw_b == 0) &&
-             std::chrono::steady_clock::now() < deadline) {
-        const std::size_t input = (res.calls + static_cast<std::size_t>(r)) % sets.inputs.size();
+      for (std::size_t call = 0; call < lockstep.calls_per_reader(); ++call) {
+        lockstep.before_call(r, call);
+        const std::size_t input = (call + static_cast<std::size_t>(r)) % sets.inputs.size();
         if (run(corrector, sets.inputs[input], sets.valid, out) != CorrectorStatus::kOk) {
           ++res.bad_status;
         } else if (out.bitwise_equal(sets.want_a[input])) {
@@ -648,19 +678,20 @@ TEST(StreamingCorrector, ConcurrentUpdatesNeverTear) {
         }
         ++res.calls;
       }
-      readers_running.fetch_sub(1);
+      lockstep.reader_done(r);
     });
   }
   for (auto& t : readers) t.join();
   writer.join();
 
-  EXPECT_GT(updates.load(), 0u);
+  EXPECT_EQ(lockstep.updates_made(), kUpdates);
   for (int r = 0; r < kReaders; ++r) {
-    const ReaderResult& res = results[r];
+    const ReaderResult& res = results[static_cast<std::size_t>(r)];
     EXPECT_EQ(res.torn, 0u) << "reader " << r << " saw " << res.torn << " mixed outputs in "
                             << res.calls << " calls";
     EXPECT_EQ(res.bad_status, 0u) << "reader " << r;
-    EXPECT_GE(res.calls, kMinCalls) << "reader " << r;
+    EXPECT_EQ(res.calls, lockstep.calls_per_reader()) << "reader " << r;
+    // Updates alternate the sets between blocks of calls: both are seen.
     EXPECT_GT(res.saw_a, 0u) << "reader " << r;
     EXPECT_GT(res.saw_b, 0u) << "reader " << r;
   }

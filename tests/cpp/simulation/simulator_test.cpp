@@ -4,7 +4,10 @@
 
 #include <gtest/gtest.h>
 
+#include <array>
 #include <cmath>
+#include <cstdint>
+#include <iostream>
 #include <numbers>
 
 #include "test_util.hpp"
@@ -139,25 +142,28 @@ TEST(Simulator, CalibratorPhasesFollowTheTruePathDifference) {
               0.1 * 2.0 * std::numbers::pi / 180.0);
 }
 
-TEST(Simulator, TurbulenceAmplitudeMatchesRequest) {
-  // Wet path differences between antennas: the rms over the night on baselines near 1 km is
-  // the requested 200 um at zenith times the airmass (within the scatter of one realisation).
+// For each band of baseline lengths {d_min_m, d_max_m}: the mean over its baselines of the
+// night's mean square wet-path difference (brought to zenith by the airmass) over the layer's
+// structure function D(d). The requested amplitude makes it 1, up to the sample variance of
+// one realisation.
+std::vector<double> amplitude_ratios(std::uint64_t seed,
+                                     const std::vector<std::array<double, 2>>& bands) {
   Scenario s = scenario();
+  s.seed = seed;
   s.duration_s = 3000.0;
   s.array.radius_m = 1500.0;
   s.array.antenna_count = 12;
   s.turbulence[0].layer.thickness_m = 5000.0;  // thick: D ~ d^(5/3), easy to scale
   const Night night = simulate_night(s);
   const std::size_t nt = night.time_count();
-  double ratio_sum = 0.0;
-  int pairs = 0;
+  const LayerSpectrum theory(s.turbulence[0].layer);
+  std::vector<double> ratio_sum(bands.size(), 0.0);
+  std::vector<int> pairs(bands.size(), 0);
   for (std::size_t a = 0; a < night.antenna_count(); ++a) {
     for (std::size_t b = a + 1; b < night.antenna_count(); ++b) {
       const auto& pa = night.array.position_enu_m[a];
       const auto& pb = night.array.position_enu_m[b];
       const double d = std::hypot(pa[0] - pb[0], pa[1] - pb[1]);
-      if (d < 700.0 || d > 1400.0) continue;
-      const LayerSpectrum theory(s.turbulence[0].layer);
       double sum2 = 0.0;
       for (std::size_t k = 0; k < nt; ++k) {
         const double am =
@@ -166,12 +172,43 @@ TEST(Simulator, TurbulenceAmplitudeMatchesRequest) {
             (night.truth->wet_path_m[b * nt + k] - night.truth->wet_path_m[a * nt + k]) / am;
         sum2 += diff * diff;
       }
-      ratio_sum += sum2 / static_cast<double>(nt) / theory.structure_function_m2(d);
-      ++pairs;
+      for (std::size_t i = 0; i < bands.size(); ++i) {
+        if (d < bands[i][0] || d > bands[i][1]) continue;
+        ratio_sum[i] += sum2 / static_cast<double>(nt) / theory.structure_function_m2(d);
+        ++pairs[i];
+      }
     }
   }
-  ASSERT_GT(pairs, 3);
-  EXPECT_NEAR(ratio_sum / pairs, 1.0, 0.35);
+  for (std::size_t i = 0; i < bands.size(); ++i) {
+    EXPECT_GT(pairs[i], 3) << "seed " << seed << " band " << i;
+    ratio_sum[i] /= pairs[i];
+  }
+  return ratio_sum;
+}
+
+TEST(Simulator, TurbulenceAmplitudeMatchesRequest) {
+  // One night's ratio scatters with the few independent screen patches it holds: over seeds
+  // 1-20 (DISABLED_TurbulenceAmplitudeSpreadOverSeeds) the mean of the 300-700 m and
+  // 700-1400 m ratios is 0.997 with a standard deviation of 0.100 per night (700-1400 m alone:
+  // 0.128, range 0.79-1.25). The mean over seeds 1-5 then scatters by 0.100 / sqrt(5) = 0.045;
+  // allowed 3 sigma = 0.135. An amplitude 10 % off (D 21 % off) fails.
+  double sum = 0.0;
+  const int nights = 5;
+  for (std::uint64_t seed = 1; seed <= nights; ++seed) {
+    const auto r = amplitude_ratios(seed, {{300.0, 700.0}, {700.0, 1400.0}});
+    sum += 0.5 * (r[0] + r[1]);
+  }
+  EXPECT_NEAR(sum / nights, 1.0, 0.135);
+}
+
+// The spread of amplitude_ratio over seeds, from which the tolerance above is set
+// (run with --gtest_also_run_disabled_tests).
+TEST(Simulator, DISABLED_TurbulenceAmplitudeSpreadOverSeeds) {
+  for (std::uint64_t seed = 1; seed <= 20; ++seed) {
+    const auto r = amplitude_ratios(seed, {{100.0, 300.0}, {300.0, 700.0}, {700.0, 1400.0}});
+    std::cout << "seed " << seed << ": 100-300 m " << r[0] << ", 300-700 m " << r[1]
+              << ", 700-1400 m " << r[2] << "\n";
+  }
 }
 
 TEST(Simulator, FaultsCloudsAndEpisodes) {

@@ -3,6 +3,8 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <iostream>
+#include <numbers>
 
 #include "test_util.hpp"
 #include "wvr/wvr.hpp"
@@ -38,12 +40,30 @@ TEST(SkyModel, AirmassIsTwoAtThirtyDegreesInThePlaneParallelLimit) {
   EXPECT_GT(spherical.airmass, 1.98);
 }
 
-TEST(SkyModel, SphericalGeometryStaysFiniteAtFiveDegrees) {
+TEST(SkyModel, SphericalAirmassAtFiveDegreesFollowsTheShellGeometry) {
   const AtmosphereProfile profile = make_parametric_profile(demo_site(1.0));
-  const double airmass = SkyModel().slant_path(profile, 5.0).airmass;
-  // 1/sin(5 deg) = 11.47 in the plane-parallel limit; Earth curvature shortens it.
-  EXPECT_GT(airmass, 9.0);
-  EXPECT_LT(airmass, 1.0 / std::sin(5.0 * M_PI / 180.0));
+  const double r0 = constants::earth_radius_m + profile.ground_altitude_m();
+  const double r1 = constants::earth_radius_m + profile.top_altitude_m();
+  const double column_m = r1 - r0;
+  // A straight ray from radius r0 at elevation e leaves the shell r1 after
+  // sqrt(r1^2 - r0^2 cos^2 e) - r0 sin e (the law of cosines); the airmass is that over the
+  // column height. Without refraction the layered path must equal it to rounding.
+  auto straight_airmass = [&](double elevation_deg) {
+    const double e = elevation_deg * std::numbers::pi / 180.0;
+    return (std::sqrt(r1 * r1 - r0 * r0 * std::cos(e) * std::cos(e)) - r0 * std::sin(e)) / column_m;
+  };
+  SkyOptions straight;
+  straight.refraction = false;
+  EXPECT_NEAR(SkyModel(make_p676_annex1_model(), straight).slant_path(profile, 5.0).airmass,
+              straight_airmass(5.0), 1e-6 * straight_airmass(5.0));
+  // With refraction the ray curves towards the denser air below, so its local elevation falls
+  // below the launch elevation by at most the total refraction: 0.165 deg at 5 deg apparent
+  // elevation at sea level (Bennett 1982: R = cot(h + 7.31 / (h + 4.4)) arcmin), less at the
+  // site's lower pressure. The airmass then lies between the straight rays at 5 and 4.835 deg
+  // (about 8.96 and 9.17 here; 1 / sin 5 deg = 11.47 without curvature).
+  const double refracted = SkyModel().slant_path(profile, 5.0).airmass;
+  EXPECT_GT(refracted, straight_airmass(5.0));
+  EXPECT_LT(refracted, straight_airmass(5.0 - 0.165));
 }
 
 TEST(SkyModel, IsothermalSlabMatchesClosedForm) {
@@ -151,6 +171,8 @@ TEST(SkyModel, HydrostaticPathOfProfileMatchesSaastamoinen) {
   site.pwv_mm = 10.0;
   const AtmosphereProfile profile = make_parametric_profile(site);
   const double zhd = SkyModel().slant_path(profile, 90.0).hydrostatic_path_m;
+  std::cout << "ZHD ratio " << zhd / saastamoinen_zenith_hydrostatic_delay_m(1013.25, 45.0, 0.0)
+            << "\n";
   EXPECT_NEAR(zhd / saastamoinen_zenith_hydrostatic_delay_m(1013.25, 45.0, 0.0), 1.0, 0.006);
 }
 
@@ -249,6 +271,39 @@ TEST(SkyModel, CloudLiquidRaisesTheWindowChannel) {
   const auto b = SkyModel().channels(cloudy, demo_22(), 60.0);
   // 0.1 mm of liquid at 31 GHz adds roughly K_L * LWP ~ 0.1 dB... a few K of emission.
   EXPECT_GT(b.brightness_k[3] - a.brightness_k[3], 0.5);
+}
+
+TEST(SkyModel, CloudEmissionAt31GhzIsTheLiquidOpacityTimesItsTemperature) {
+  // A thin absorbing layer at temperature T_c with slant opacity dtau, seen through the
+  // transmission t_b of the air below, adds dtau t_b (T_c - T_above) to the brightness, where
+  // T_above is what falls on the cloud from above (RJ). At 31.4 GHz and 1 mm PWV the clear
+  // sky is thin, so 0 <= T_above <= T_clear (the whole clear-sky brightness, ~12 K here) and
+  // t_b >= exp(-tau_clear - tau_cloud): the rise is bracketed by sum dtau_i (T_i - T_clear) t_b and
+  // sum dtau_i T_i, about +-2.5 % wide. dtau_i = kappa(f, T_i) rho_l,i dz_i / sin(e) with the
+  // P.840 mass absorption coefficient (checked against ITU-Rpy in CloudLiquid.MatchesItuRpyP840).
+  const AtmosphereProfile clear = make_parametric_profile(demo_site(1.0));
+  const AtmosphereProfile cloudy = clear.with_cloud(300.0, 800.0, 0.1);
+  const double el = 60.0, f = 31.4;
+  const std::vector<double> freq = {f};
+  SkyOptions plane;
+  plane.geometry = RayGeometry::kPlaneParallel;  // ds = dz / sin(e) exactly
+  const SkyModel sky(make_p676_annex1_model(), plane);
+  const SkySpectrum a = sky.spectrum(clear, freq, el);
+  const SkySpectrum b = sky.spectrum(cloudy, freq, el);
+  double upper = 0.0, lower = 0.0, cloud_tau = 0.0;
+  for (const AtmosphereLayer& layer : cloudy.layers()) {
+    const double dtau = cloud_liquid_absorption_m2_per_kg(f, layer.temperature_k) *
+                        layer.liquid_density_kg_m3 * layer.thickness_m() /
+                        std::sin(el * std::numbers::pi / 180.0);
+    upper += dtau * layer.temperature_k;
+    lower += dtau * (layer.temperature_k - a.rj_brightness_k[0]) * a.transmission[0];
+    cloud_tau += dtau;
+  }
+  lower *= std::exp(-cloud_tau);  // the cloud's own layers below each one
+  const double rise = b.rj_brightness_k[0] - a.rj_brightness_k[0];
+  EXPECT_GT(upper, 1.0);  // 0.1 kg/m^2 of liquid is a few K at 31 GHz
+  EXPECT_LE(rise, upper);
+  EXPECT_GE(rise, lower);
 }
 
 TEST(SkyModel, RejectsBadInput) {

@@ -417,6 +417,25 @@ TEST(StructureFunctionNight, LongNightsAreSearchedCoarseThenFine) {
   EXPECT_THROW(estimate_wind(night, paths, bad), InvalidInput);
 }
 
+// Per lag: the antennas' mean temporal D(tau) of a wind_night over the frozen-flow theory,
+// the spatial D at |v| tau times the airmass squared (the slant path is longer than the
+// zenith one by the airmass).
+std::vector<double> temporal_ratios(const Night& night,
+                                    const TemporalStructureResult& antenna,
+                                    const std::vector<double>& lags) {
+  const LayerSpectrum spectrum(TurbulentLayer{600.0, 1000.0, 200000.0, 8.0, 3.0, 500e-6, 1000.0});
+  const double airmass = 1.0 / std::sin(night.pointing.elevation_deg[0] * std::numbers::pi / 180.0);
+  std::vector<double> ratio;
+  for (std::size_t i = 0; i < lags.size(); ++i) {
+    double mean = 0.0;
+    for (const auto& e : antenna.estimates)
+      mean += e.value_m2[i] / static_cast<double>(antenna.estimates.size());
+    const double expected = spectrum.structure_function_m2(std::hypot(8.0, 3.0) * lags[i]);
+    ratio.push_back(mean / (expected * airmass * airmass));
+  }
+  return ratio;
+}
+
 TEST(StructureFunctionNight, TemporalStructureFollowsFrozenFlow) {
   // D(tau) of one antenna's path equals the spatial D at |v| tau (Taylor).
   AntennaPaths paths;
@@ -430,20 +449,43 @@ TEST(StructureFunctionNight, TemporalStructureFollowsFrozenFlow) {
   EXPECT_EQ(antenna.estimates.size(), night.antenna_count());
   EXPECT_EQ(baseline.series[0][1], 1);
   EXPECT_NEAR(antenna.sample_interval_s, 1.0, 1e-9);
-  const LayerSpectrum spectrum(TurbulentLayer{600.0, 1000.0, 200000.0, 8.0, 3.0, 500e-6, 1000.0});
-  for (std::size_t i = 0; i < lags.size(); ++i) {
-    double mean = 0.0;
-    for (const auto& e : antenna.estimates)
-      mean += e.value_m2[i] / static_cast<double>(antenna.estimates.size());
-    const double expected = spectrum.structure_function_m2(std::hypot(8.0, 3.0) * lags[i]);
-    // The slant path is longer than the zenith one by the airmass (D by its square).
-    const double airmass =
-        1.0 / std::sin(night.pointing.elevation_deg[0] * std::numbers::pi / 180.0);
-    std::cout << "lag " << lags[i] << " s: D " << mean << " m^2, theory x airmass^2 "
-              << expected * airmass * airmass << "\n";
-    EXPECT_NEAR(mean / (expected * airmass * airmass), 1.0, 0.35);
-  }
   EXPECT_THROW(temporal_path_structure(paths, std::vector<double>{1e7}), InvalidInput);
+
+  // The ratio to theory scatters from night to night (few independent screen patches pass in
+  // 20 minutes). Over seeds 30-49 (DISABLED_TemporalStructureSpreadOverSeeds) it measured, at
+  // lags 2, 5, 10, 20 s: mean 0.964, 0.977, 0.981, 0.991; standard deviation per night 0.049,
+  // 0.067, 0.089, 0.124 (single nights 0.74-1.25). The mean over three nights (seeds 30-32)
+  // is allowed three standard deviations of a three-night mean plus the measured offset from
+  // one (the 1 s integration smooths the shortest lags): 0.12, 0.14, 0.17, 0.22. A path
+  // amplitude 10 % off (D 21 % off) fails at the short lags.
+  const double sigma[] = {0.049, 0.067, 0.089, 0.124};
+  const double offset[] = {0.036, 0.023, 0.019, 0.009};
+  std::vector<double> sum = temporal_ratios(night, antenna, lags);
+  for (std::uint64_t seed : {31, 32}) {
+    AntennaPaths more_paths;
+    const Night more = wind_night(8.0, 3.0, seed, &more_paths);
+    const std::vector<double> r =
+        temporal_ratios(more, temporal_path_structure(more_paths, lags), lags);
+    for (std::size_t i = 0; i < lags.size(); ++i) sum[i] += r[i];
+  }
+  for (std::size_t i = 0; i < lags.size(); ++i) {
+    const double mean = sum[i] / 3.0;
+    std::cout << "lag " << lags[i] << " s: D / theory over 3 nights " << mean << "\n";
+    EXPECT_NEAR(mean, 1.0, 3.0 * sigma[i] / std::sqrt(3.0) + offset[i]) << "lag " << lags[i];
+  }
+}
+
+// The spread over seeds of the ratios checked above (run with --gtest_also_run_disabled_tests).
+TEST(StructureFunctionNight, DISABLED_TemporalStructureSpreadOverSeeds) {
+  const std::vector<double> lags = {2.0, 5.0, 10.0, 20.0};
+  for (std::uint64_t seed = 30; seed < 50; ++seed) {
+    AntennaPaths paths;
+    const Night night = wind_night(8.0, 3.0, seed, &paths);
+    std::cout << "seed " << seed << ":";
+    for (double r : temporal_ratios(night, temporal_path_structure(paths, lags), lags))
+      std::cout << " " << r;
+    std::cout << "\n";
+  }
 }
 
 TEST(StructureFunctionNight, CalibratorStructureIsInPathUnitsAndCappedByTheScan) {
