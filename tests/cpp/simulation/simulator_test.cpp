@@ -156,7 +156,11 @@ std::vector<double> amplitude_ratios(std::uint64_t seed,
   s.turbulence[0].layer.thickness_m = 5000.0;  // thick: D ~ d^(5/3), easy to scale
   const Night night = simulate_night(s);
   const std::size_t nt = night.time_count();
-  const LayerSpectrum theory(s.turbulence[0].layer);
+  // Theory from the request as written in kBase (path_rms_um = 200), not from the parsed
+  // scenario, so that a mis-read request fails too.
+  TurbulentLayer requested = s.turbulence[0].layer;
+  requested.path_rms_at_reference_m = 200e-6;
+  const LayerSpectrum theory(requested);
   std::vector<double> ratio_sum(bands.size(), 0.0);
   std::vector<int> pairs(bands.size(), 0);
   for (std::size_t a = 0; a < night.antenna_count(); ++a) {
