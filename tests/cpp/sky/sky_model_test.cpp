@@ -165,15 +165,24 @@ TEST(SkyModel, SaastamoinenDelay) {
 }
 
 TEST(SkyModel, HydrostaticPathOfProfileMatchesSaastamoinen) {
-  // Integrating N_h through a 40 km sea-level profile recovers the Saastamoinen zenith delay
-  // to within the ~0.1 % left above 40 km and from the gravity model.
+  // Integrating N_h through a 40 km sea-level profile gives the Saastamoinen zenith delay of
+  // the air below 40 km: the delay is proportional to the pressure it integrates over
+  // (Saastamoinen 1972), so the ratio is 1 - p(top) / p(ground), 0.9977 here (isothermal
+  // above the 11 km tropopause: p(40 km) = 2.3 hPa). What remains is the constants and the
+  // gravity: Saastamoinen's 0.0022768 m/hPa holds k1 = 77.6 K/hPa with g_m = 9.784 m/s^2 at the
+  // column's centre of mass (Davis et al. 1985), ours the profile's g0 (R / (R + z))^2 and the
+  // hydrostatics of dry air (the virtual-temperature term is neglected, atmosphere.hpp):
+  // together < 0.2 % (measured: 0.9962 against 0.9976). Allowed 0.2 %.
   SiteParameters site;
   site.pwv_mm = 10.0;
   const AtmosphereProfile profile = make_parametric_profile(site);
+  const AtmosphereLayer& top = profile.layers().back();
+  // Top-layer pressure is at mid-height: carry it to the top with the isothermal scale height.
+  const double scale_height_m = 287.05 * top.temperature_k / 9.69;
+  const double top_hpa = top.pressure_hpa * std::exp(-0.5 * top.thickness_m() / scale_height_m);
+  const double expected = 1.0 - top_hpa / 1013.25;
   const double zhd = SkyModel().slant_path(profile, 90.0).hydrostatic_path_m;
-  std::cout << "ZHD ratio " << zhd / saastamoinen_zenith_hydrostatic_delay_m(1013.25, 45.0, 0.0)
-            << "\n";
-  EXPECT_NEAR(zhd / saastamoinen_zenith_hydrostatic_delay_m(1013.25, 45.0, 0.0), 1.0, 0.006);
+  EXPECT_NEAR(zhd / saastamoinen_zenith_hydrostatic_delay_m(1013.25, 45.0, 0.0), expected, 2e-3);
 }
 
 double max_channel_difference(const ChannelBrightness& a, const ChannelBrightness& b) {
