@@ -4,6 +4,7 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <cstdint>
 #include <cstring>
 #include <iostream>
 #include <map>
@@ -139,35 +140,52 @@ TEST(Calibration, WetTurbulenceIsCorrectedToTheNoiseFloor) {
   }
 }
 
+// A 3 mm night whose sky's water continuum is `continuum_scale` times the retrieval's model.
+Solved solve_mis_scaled(double continuum_scale, std::uint64_t seed = 23) {
+  Solved s;
+  s.scenario = parse_scenario(night_text(230.0, ""), "test.toml", test::testdata(""));
+  s.scenario.seed = seed;
+  s.scenario.pwv_mm = 3.0;
+  s.scenario.water_continuum_scale = continuum_scale;
+  s.night = simulate_night(s.scenario);
+  s.retrieval = retrieve_night(s.night, s.scenario.site.parameters);
+  s.coefficients = CoefficientWindows::from_retrieval(s.retrieval);
+  s.paths = compute_wvr_paths(s.night, s.coefficients);
+  s.factor = site_phase_per_path(s.scenario.site.parameters);
+  s.calibration = solve_scaling(s.night, s.paths, s.factor);
+  return s;
+}
+
 TEST(Calibration, RecoversTheScaleOfAMisScaledSky) {
-  // The sky's water continuum is 12 % stronger than the retrieval's model, on a wetter night
-  // (3 mm) where the continuum matters on the 183 GHz wings.
-  auto solve_with = [](double continuum_scale) {
-    Solved s;
-    s.scenario = parse_scenario(night_text(230.0, ""), "test.toml", test::testdata(""));
-    s.scenario.pwv_mm = 3.0;
-    s.scenario.water_continuum_scale = continuum_scale;
-    s.night = simulate_night(s.scenario);
-    s.retrieval = retrieve_night(s.night, s.scenario.site.parameters);
-    s.coefficients = CoefficientWindows::from_retrieval(s.retrieval);
-    s.paths = compute_wvr_paths(s.night, s.coefficients);
-    s.factor = site_phase_per_path(s.scenario.site.parameters);
-    s.calibration = solve_scaling(s.night, s.paths, s.factor);
-    return s;
-  };
-  const Solved matched = solve_with(1.0);
-  const Solved mis = solve_with(1.12);
+  // A continuum 50 % stronger than the model's moves the scale the radiometer paths need from
+  // 0.994-0.998 to 0.927-0.930 (seeds 23-28, DISABLED_MisScaledSkySpreadOverSeeds). Over
+  // those seeds solved / needed was 0.99936-1.00055 on matched and mis-scaled skies alike
+  // (mean 0.99985, standard deviation 0.00043); allowed 3 sigma plus the mean offset, 0.15 %.
+  // A solve that ignored the mismatch (the matched scale) would be 7 % off.
+  const Solved matched = solve_mis_scaled(1.0);
+  const Solved mis = solve_mis_scaled(1.5);
   ASSERT_TRUE(mis.calibration.ok()) << mis.calibration.brief_report();
   const double needed = true_scale(mis);
-  EXPECT_NEAR(mis.calibration.scale / needed, 1.0, 0.02);
-  EXPECT_NEAR(matched.calibration.scale / true_scale(matched), 1.0, 0.02);
-  // The mis-scale is real: the needed scale moved by more than the solve's tolerance half.
-  EXPECT_GT(std::abs(needed / true_scale(matched) - 1.0), 0.01);
-  RecordProperty("needed_scale_matched", std::to_string(true_scale(matched)));
-  RecordProperty("needed_scale_mis_scaled", std::to_string(needed));
-  std::cout << "needed scale: matched sky " << true_scale(matched) << ", 12 % stronger continuum "
+  EXPECT_NEAR(mis.calibration.scale / needed, 1.0, 0.0015);
+  EXPECT_NEAR(matched.calibration.scale / true_scale(matched), 1.0, 0.0015);
+  // The mis-scale is real: the needed scale moved by far more than the tolerance.
+  EXPECT_GT(std::abs(needed / true_scale(matched) - 1.0), 0.05);
+  std::cout << "needed scale: matched sky " << true_scale(matched) << ", stronger continuum "
             << needed << "; solved " << matched.calibration.scale << " and "
             << mis.calibration.scale << "\n";
+}
+
+// Spread of the solved scale over the needed one across seeds, and how far the needed scale
+// moves with the continuum (run with --gtest_also_run_disabled_tests).
+TEST(Calibration, DISABLED_MisScaledSkySpreadOverSeeds) {
+  for (std::uint64_t seed = 23; seed < 29; ++seed) {
+    for (double continuum : {1.0, 1.5}) {
+      const Solved s = solve_mis_scaled(continuum, seed);
+      std::cout << "seed " << seed << " continuum " << continuum << ": needed " << true_scale(s)
+                << " solved " << s.calibration.scale << " ratio "
+                << s.calibration.scale / true_scale(s) << "\n";
+    }
+  }
 }
 
 TEST(Calibration, SubmillimetreNightSolvesToTheSameScale) {

@@ -55,12 +55,12 @@ TEST(StructureFunctionTheory, ThinLayerSlopeIsTwoThirds) {
 
 // The slab's transition is broad and asymmetric (the thick regime is approached only
 // linearly in d / W), so the break of a fit with a free transition width does not sit where
-// the asymptotes cross (0.343 W, closed form) but further out. Calibrated on the LayerSpectrum
-// curve over W/100 .. 30 W (printed below): d_break = 0.58 W, independent of W.
-constexpr double kFittedBreakOverThickness = 0.58;
-
+// the asymptotes cross (0.343 W, closed form) but further out, below W. Where exactly depends
+// on the fit, not on physics; what physics fixes is that the curve, and so the break, scales
+// with W: on the same grid in d / W the fitted break / W is the same for every W.
 TEST(StructureFunctionTheory, BreakScalesWithTheThickness) {
   const double crossing_ratio = slab_break_over_thickness();
+  std::vector<double> break_over_w;
   EXPECT_NEAR(crossing_ratio, 0.343, 0.001);  // closed form (see the header)
   for (double w : {100.0, 300.0, 1000.0}) {
     TurbulentLayer layer;
@@ -78,7 +78,7 @@ TEST(StructureFunctionTheory, BreakScalesWithTheThickness) {
     const Curve c = theory_curve(w, 1e7, w / 100.0, w * 30.0);
     const BrokenPowerLawFit fit = fit_broken_power_law(c.d_m, c.value_m2);
     ASSERT_TRUE(fit.ok()) << fit.brief_report();
-    EXPECT_NEAR(fit.break_m / (kFittedBreakOverThickness * w), 1.0, 0.25) << fit.brief_report();
+    break_over_w.push_back(fit.break_m / w);
     EXPECT_GT(fit.break_m, crossing);
     EXPECT_LT(fit.break_m, w);
     EXPECT_NEAR(fit.alpha_short, 5.0 / 3.0, 0.1) << fit.brief_report();
@@ -88,8 +88,12 @@ TEST(StructureFunctionTheory, BreakScalesWithTheThickness) {
               << ", asymptotes cross at " << crossing / w << " W (closed form " << crossing_ratio
               << "); " << fit.brief_report() << "\n";
   }
+  // The outer scale (1e7 m) is 1e4-1e5 W away, so the curves are the same in d / W and
+  // break / W agrees across W to 0.3 % (measured 0.5826, 0.5829, 0.5843 for W = 100, 300,
+  // 1000 m); allowed 1 %, so a break that does not scale with W (in the wrong units, or
+  // pinned to a grid point) fails.
+  for (double r : break_over_w) EXPECT_NEAR(r / break_over_w[0], 1.0, 0.01);
 }
-
 TEST(StructureFunctionTheory, SlabFitRecoversTheThickness) {
   for (double w : {20.0, 100.0, 600.0, 2000.0}) {
     const Curve c = theory_curve(w, 1e9, w / 30.0, w * 30.0);
