@@ -8,6 +8,7 @@
 
 #include "commands.hpp"
 #include "diagnose_output.hpp"
+#include "output.hpp"
 #include "pipeline.hpp"
 #include "wvr/diagnosis.hpp"
 #include "wvr/error.hpp"
@@ -87,15 +88,22 @@ namespace {
 
 void print_text(const DiagnosedNight& d) {
   const auto& s = d.json["summary"];
-  std::cout << "scale " << s["scale"] << ", phase rms " << s["phase_rms_before_deg"] << " -> "
-            << s["phase_rms_after_deg"] << " deg (median over baselines)\n";
+  auto number = [&](const char* key) {
+    return s[key].is_number() ? s[key].get<double>() : std::nan("");
+  };
+  std::cout << "scale " << with_uncertainty(number("scale"), number("scale_sigma"))
+            << ", phase rms " << fixed(number("phase_rms_before_deg"), 2) << " -> "
+            << fixed(number("phase_rms_after_deg"), 2) << " deg (median over baselines)\n";
   for (const auto& [verdict, count] : s["verdict_counts"].items()) {
     std::cout << "  " << verdict << ": " << count << " scans\n";
   }
   for (const auto& note : d.json["notes"]) std::cout << "note: " << note.get<std::string>() << "\n";
   Table table({"start_s", "stop_s", "kind", "verdict", "reason"});
   for (const wvr::WindowDiagnosis& w : d.processed.result.diagnosis->windows) {
-    if (w.verdict == wvr::Verdict::kCorrected && !w.calibrator) continue;  // keep the list short
+    bool flagged = false;
+    for (std::uint8_t f : w.antenna_faults) flagged |= f != 0;
+    // Keep the list short: corrected target scans only when they flag an antenna.
+    if (w.verdict == wvr::Verdict::kCorrected && !w.calibrator && !flagged) continue;
     table.add_row({fixed(w.start_s, 0), fixed(w.stop_s, 0), w.calibrator ? "calibrator" : "target",
                    wvr::to_string(w.verdict) + (w.inherited ? " (inherited)" : ""), w.reason});
   }

@@ -10,16 +10,19 @@
 // scans have no phases: radiometer-only evidence (clouds, antenna faults) is judged directly
 // and the phase-based verdict is inherited from the neighbouring calibrator scans.
 //
-// Verdicts (our vocabulary), first match wins for the array:
+// Verdicts (our vocabulary), first match wins for the array; the array verdict describes the
+// healthy antennas (a flagged antenna is named in antenna_faults, not in the verdict):
 //   cannot judge      no calibrator phases or no usable radiometer in the window;
 //   cloud             most antennas' retrieval chi2/dof above cloud_chi2_per_dof;
+//   radiometer fault  more than fault_array_fraction of the antennas flagged below;
 //   quiet sky         phase scatter before correction within quiet_floor_ratio x floor;
 //   scale off         correlation above scale_min_correlation, the observed/predicted slope
 //                     outside 1 +/- scale_tolerance, and the prediction rescaled by that
 //                     slope leaves no more than dry_floor_ratio x the floor;
 //   dry turbulence    residual after correction above dry_floor_ratio x floor;
-//   radiometer fault  (array is otherwise fine) one or more antennas flagged below;
 //   corrected         otherwise.
+// A target scan whose own radiometers show no cloud takes the phase-based verdict of a
+// neighbouring calibrator scan, never its cloud.
 // Antenna faults: unusable retrieval samples above fault_unusable_fraction, a channel whose
 // brightness varies less than stuck_noise_fraction x its noise, spikes (samples with chi2/dof
 // above spike_chi2_per_dof in more than spike_fraction of samples), chi2/dof above
@@ -76,6 +79,7 @@ struct DiagnosisThresholds {
   double spike_fraction = 0.005;
   double fault_chi2_ratio = 4.0;
   double fault_residual_ratio = 3.0;
+  double fault_array_fraction = 0.5;
 
   void validate() const;  // throws InvalidInput
 };

@@ -7,6 +7,7 @@
 #include <sstream>
 
 #include "core/statistics.hpp"
+#include "diagnosis/inheritance.hpp"
 #include "diagnosis/residual_trend.hpp"
 #include "wvr/constants.hpp"
 #include "wvr/error.hpp"
@@ -62,6 +63,7 @@ void DiagnosisThresholds::validate() const {
   require_in_range("spike_fraction", spike_fraction, 0.0, 1.0);
   require_in_range("fault_chi2_ratio", fault_chi2_ratio, 1.0, 1e6);
   require_in_range("fault_residual_ratio", fault_residual_ratio, 1.0, 1e6);
+  require_in_range("fault_array_fraction", fault_array_fraction, 0.0, 1.0);
 }
 
 namespace {
@@ -151,6 +153,7 @@ NightDiagnosis diagnose_night(const Night& night,
         "diagnosis: corrected phases do not match the night's calibrator phase rows");
   }
   NightDiagnosis d;
+  std::vector<bool> radiometer_judged;  // [window]: own radiometer evidence, no array fault
   d.antenna_names = night.array.antenna_names;
   d.thresholds = th;
   if (cp.time_s.empty())
@@ -333,8 +336,13 @@ NightDiagnosis diagnose_night(const Night& night,
     w.correlation = detail::finite_median(corr);
     w.slope = detail::finite_median(slopes);
     w.radiometer_path_rms_um = detail::finite_median(pred_rms);
-    bool any_fault = false;
-    for (std::uint8_t f : w.antenna_faults) any_fault |= f != 0;
+    std::size_t flagged = 0;
+    for (std::uint8_t f : w.antenna_faults) flagged += f != 0;
+    // One sick radiometer flags its antenna; the array verdict describes the healthy ones
+    // unless too few are left to speak for the array.
+    const bool array_fault = flagged > 0 && static_cast<double>(flagged) >
+                                                th.fault_array_fraction * static_cast<double>(na);
+    const bool healthy_baselines = !before.empty();
     std::ostringstream reason;
     reason.precision(3);
     if (judged == 0) {
@@ -344,12 +352,21 @@ NightDiagnosis diagnose_night(const Night& night,
       w.verdict = Verdict::kCloud;
       reason << cloudy << " of " << judged << " antennas have retrieval chi2/dof above "
              << th.cloud_chi2_per_dof << " (median " << array_chi2 << ")";
-    } else if (!w.calibrator || baselines.empty()) {
-      w.verdict = any_fault ? Verdict::kRadiometerFault : Verdict::kCannotJudge;
-      reason << (w.calibrator ? "no usable calibrator phases" : "target scan");
-      if (any_fault) reason << "; radiometer evidence flags antennas";
+    } else if (array_fault) {
+      w.verdict = Verdict::kRadiometerFault;
+      reason << flagged << " of " << na
+             << " antennas flagged, too few healthy ones to judge the sky";
+    } else if (!w.calibrator) {
+      w.verdict = Verdict::kCannotJudge;
+      reason << "target scan: no calibrator phases";
+    } else if (baselines.empty()) {
+      w.verdict = Verdict::kCannotJudge;
+      reason << "no usable calibrator phases";
+    } else if (!healthy_baselines) {
+      w.verdict = Verdict::kCannotJudge;
+      reason << "every baseline with phases contains a flagged antenna";
     } else if (w.rms_before_deg < th.quiet_floor_ratio * w.floor_deg) {
-      w.verdict = any_fault ? Verdict::kRadiometerFault : Verdict::kQuietSky;
+      w.verdict = Verdict::kQuietSky;
       reason << "phase rms before " << w.rms_before_deg << " deg is within " << th.quiet_floor_ratio
              << " x the floor " << w.floor_deg << " deg";
     } else if (w.correlation > th.scale_min_correlation &&
@@ -364,16 +381,12 @@ NightDiagnosis diagnose_night(const Night& night,
       reason << "residual " << w.rms_after_deg << " deg is above " << th.dry_floor_ratio
              << " x the floor " << w.floor_deg << " deg; radiometers see "
              << w.radiometer_path_rms_um << " um rms, correlation " << w.correlation;
-    } else if (any_fault) {
-      w.verdict = Verdict::kRadiometerFault;
-      reason << "array corrected to " << w.rms_after_deg << " deg (floor " << w.floor_deg
-             << " deg) apart from flagged antennas";
     } else {
       w.verdict = Verdict::kCorrected;
       reason << "phase rms " << w.rms_before_deg << " -> " << w.rms_after_deg << " deg (floor "
              << w.floor_deg << " deg), correlation " << w.correlation;
     }
-    if (any_fault) {
+    if (flagged > 0) {
       reason << "; flagged:";
       for (std::size_t a = 0; a < na; ++a) {
         if (w.antenna_faults[a])
@@ -381,11 +394,13 @@ NightDiagnosis diagnose_night(const Night& night,
                  << describe_antenna_faults(w.antenna_faults[a]) << ")";
       }
     }
+    radiometer_judged.push_back(judged > 0 && !array_fault);
     w.reason = reason.str();
     d.windows.push_back(std::move(w));
   }
   // Antenna faults persist: a window between two windows that flag the same antenna is
-  // flagged too (intermittent faults such as spikes need not show in every short scan).
+  // flagged too (intermittent faults such as spikes need not show in every short scan). The
+  // array verdict stays with the healthy antennas.
   for (std::size_t a = 0; a < na; ++a) {
     for (std::size_t i = 1; i + 1 < d.windows.size(); ++i) {
       WindowDiagnosis& w = d.windows[i];
@@ -393,51 +408,11 @@ NightDiagnosis diagnose_night(const Night& night,
           d.windows[i - 1].antenna_faults[a] & d.windows[i + 1].antenna_faults[a];
       if (around == 0 || (w.antenna_faults[a] & around) == around) continue;
       w.antenna_faults[a] |= around;
-      if (w.verdict == Verdict::kCorrected || w.verdict == Verdict::kQuietSky ||
-          w.verdict == Verdict::kCannotJudge) {
-        w.verdict = Verdict::kRadiometerFault;
-      }
       w.reason += "; " + night.array.antenna_names[a] + " flagged between faulty windows (" +
                   describe_antenna_faults(around) + ")";
     }
   }
-  // Target scans inherit the phase-based verdict of the neighbouring calibrator scans when
-  // their own (radiometer-only) evidence shows nothing.
-  for (std::size_t i = 0; i < d.windows.size(); ++i) {
-    WindowDiagnosis& w = d.windows[i];
-    if (w.calibrator || w.verdict != Verdict::kCannotJudge) continue;
-    const WindowDiagnosis* before = nullptr;
-    const WindowDiagnosis* after = nullptr;
-    for (std::size_t j = i; j-- > 0;) {
-      if (d.windows[j].calibrator) {
-        before = &d.windows[j];
-        break;
-      }
-    }
-    for (std::size_t j = i + 1; j < d.windows.size(); ++j) {
-      if (d.windows[j].calibrator) {
-        after = &d.windows[j];
-        break;
-      }
-    }
-    // A neighbour judged only by its antenna faults says nothing about the sky: use the other.
-    auto sky_verdict = [](const WindowDiagnosis* n) {
-      return n != nullptr && n->verdict != Verdict::kRadiometerFault &&
-             n->verdict != Verdict::kCannotJudge;
-    };
-    const WindowDiagnosis* source =
-        sky_verdict(before) ? before : (sky_verdict(after) ? after : nullptr);
-    if (sky_verdict(before) && sky_verdict(after) && after->verdict != Verdict::kCorrected &&
-        after->verdict != Verdict::kQuietSky) {
-      source = after;  // a problem starting in the next calibrator scan covers this target scan
-    }
-    if (source == nullptr) continue;
-    w.verdict = source->verdict;
-    w.inherited = true;
-    w.reason = "inherited from the calibrator scan at " +
-               std::to_string(static_cast<long>(source->start_s)) +
-               " s (radiometer-only evidence shows no cloud or antenna fault)";
-  }
+  detail::inherit_target_verdicts(d.windows, radiometer_judged);
   return d;
 }
 

@@ -13,7 +13,7 @@ namespace wvr {
 
 std::span<const DiagnosisThresholdField> diagnosis_threshold_fields() {
   using T = DiagnosisThresholds;
-  static constexpr std::array<DiagnosisThresholdField, 12> kFields = {{
+  static constexpr std::array<DiagnosisThresholdField, 13> kFields = {{
       {"cloud_chi2_per_dof", &T::cloud_chi2_per_dof,
        "an antenna's retrieval chi2/dof above this counts as cloudy"},
       {"cloud_antenna_fraction", &T::cloud_antenna_fraction,
@@ -37,6 +37,9 @@ std::span<const DiagnosisThresholdField> diagnosis_threshold_fields() {
        "antenna fault: chi2/dof above this x the array median"},
       {"fault_residual_ratio", &T::fault_residual_ratio,
        "antenna fault: phase residual above this x the array's at that baseline length"},
+      {"fault_array_fraction", &T::fault_array_fraction,
+       "the array verdict is radiometer fault only when more than this fraction of antennas "
+       "is flagged (else it describes the healthy antennas)"},
   }};
   return kFields;
 }
