@@ -72,6 +72,27 @@ DiagnosedNight diagnose_and_write(const CommonOptions& o) {
     thresholds_json[f.name] = diagnosis.thresholds.*(f.member);
   j["thresholds"] = thresholds_json;
   j["thresholds_source"] = o.thresholds_file.empty() ? "defaults" : o.thresholds_file;
+  const wvr::RadiometerFloor& floor = diagnosis.radiometer_floor;
+  nlohmann::ordered_json model_error = nlohmann::ordered_json::array();
+  for (std::size_t a = 0; a < diagnosis.antenna_names.size(); ++a) {
+    const std::size_t nc = floor.model_error_k.size();
+    model_error.push_back(
+        {{"antenna", diagnosis.antenna_names[a]},
+         {"model_error_k", std::vector<double>(floor.antenna_model_error_k.begin() + a * nc,
+                                               floor.antenna_model_error_k.begin() + (a + 1) * nc)},
+         {"systematic_offset_k",
+          std::vector<double>(floor.systematic_offset_k.begin() + a * nc,
+                              floor.systematic_offset_k.begin() + (a + 1) * nc)}});
+  }
+  j["radiometer_floor"] = {{"description", floor.describe()},
+                           {"channels", floor.channel_names},
+                           {"thermal_noise_k", floor.thermal_noise_k},
+                           {"model_error_k", floor.model_error_k},
+                           {"systematic_window_s", floor.systematic_window_s},
+                           {"slow_common_rms_k", json_number(floor.slow_common_rms_k)},
+                           {"chi2_per_dof_thermal", json_number(floor.chi2_per_dof_thermal)},
+                           {"chi2_per_dof_floor", json_number(floor.chi2_per_dof_floor)},
+                           {"antennas", model_error}};
   j["site"] = site_json(r.site);
   j["obs_freq_ghz"] = r.obs_freq->freq_ghz;
   j["obs_freq_source"] = wvr::to_string(r.obs_freq->source);

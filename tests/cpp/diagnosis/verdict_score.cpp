@@ -26,7 +26,14 @@ std::string sky_label(const Night& night, const WindowDiagnosis& w) {
 
 }  // namespace
 
-VerdictScores score_verdicts(const Night& night, const NightDiagnosis& diagnosis) {
+VerdictScores score_verdicts(const Night& night,
+                             const NightDiagnosis& diagnosis,
+                             std::vector<std::string>* misses) {
+  auto miss = [&](const WindowDiagnosis& w, const std::string& what) {
+    if (misses != nullptr)
+      misses->push_back(std::to_string(static_cast<long>(w.start_s)) + " s: " + what + " (" +
+                        w.reason + ")");
+  };
   VerdictScores scores;
   for (const char* label : {"corrected", "cloud", "dry turbulence", "radiometer fault"})
     scores[label];
@@ -37,6 +44,7 @@ VerdictScores score_verdicts(const Night& night, const NightDiagnosis& diagnosis
       ++scores[truth].actual;
       ++scores[verdict].predicted;
       scores[truth].hits += truth == verdict;
+      if (truth != verdict) miss(w, "truth " + truth + ", verdict " + verdict);
     }
     for (std::size_t a = 0; a < night.antenna_count(); ++a) {
       bool faulty = false, edge = false;
@@ -50,6 +58,8 @@ VerdictScores score_verdicts(const Night& night, const NightDiagnosis& diagnosis
       s.actual += faulty;
       s.predicted += flagged;
       s.hits += faulty && flagged;
+      if (faulty != flagged)
+        miss(w, "antenna " + std::to_string(a) + (faulty ? " faulty, not flagged" : " flagged"));
     }
   }
   return scores;

@@ -7,6 +7,7 @@
 #include <map>
 #include <ostream>
 #include <string>
+#include <vector>
 
 #include "wvr/diagnosis.hpp"
 #include "wvr/night.hpp"
@@ -21,7 +22,10 @@ struct ClassScore {
 
 using VerdictScores = std::map<std::string, ClassScore>;
 
-VerdictScores score_verdicts(const Night& night, const NightDiagnosis& diagnosis);
+// `misses`, when given, receives one line per misjudged window or antenna.
+VerdictScores score_verdicts(const Night& night,
+                             const NightDiagnosis& diagnosis,
+                             std::vector<std::string>* misses = nullptr);
 
 void print_scores(std::ostream& out, const std::string& title, const VerdictScores& scores);
 
