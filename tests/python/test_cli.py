@@ -1,5 +1,6 @@
 """The skyphase command line: output formats, options and error handling."""
 import json
+import re
 import os
 import subprocess
 
@@ -197,3 +198,30 @@ def test_diagnosis_thresholds_come_from_a_file(tmp_path):
     result = run("diagnose", str(night), "-o", str(tmp_path / "c.h5"), "--site", SITE, "--thresholds",
                  str(thresholds), check=False)
     assert result.returncode == 2 and "unknown threshold 'cloud_chi2'" in result.stderr
+
+
+def test_text_tables_fit_their_content_and_numbers_print_at_their_precision(tmp_path):
+    night = tmp_path / "night.h5"
+    run("simulate", str(small_demo_scenario(tmp_path, duration_s=1500.0)), "-o", str(night))
+    lines = run("diagnose", str(night), "-o", str(tmp_path / "d.h5"), "--site", SITE).stdout.splitlines()
+    # "scale 0.98 +/- 0.012, phase rms 24.40 -> 5.65 deg": no number with more than 4 decimals.
+    assert re.match(r"scale [0-9.]+ \+/- [0-9.]+, phase rms [0-9.]+ -> [0-9.]+ deg", lines[0]), lines[0]
+    assert not re.search(r"\d\.\d{5,}", lines[0]), lines[0]
+    header = next(k for k, line in enumerate(lines) if line.startswith("start_s"))
+    table = lines[header:header + 1 + sum(1 for line in lines[header + 1:] if line[:1] == " ")]
+    assert len(table) > 3
+    reason_column = table[0].index("reason")
+    verdict_column = table[0].index("verdict")
+    # Text columns start where their header starts (left-aligned), no trailing blanks, and the
+    # header is no wider than the widest cells before the last column need.
+    widest_verdict = max(len(row[verdict_column:reason_column].rstrip()) for row in table[1:])
+    assert reason_column == verdict_column + widest_verdict + 2
+    for row in table:
+        assert row == row.rstrip()
+        assert row[reason_column - 2:reason_column] == "  " and row[reason_column] != " "
+    calibrated = run("calibrate", str(night), "-o", str(tmp_path / "c.h5"), "--site", SITE).stdout
+    first = calibrated.splitlines()[0]
+    value, sigma = re.match(r"scale ([0-9.]+) \+/- ([0-9.]+)", first).groups()
+    # Decimals follow two significant digits of the uncertainty.
+    assert len(value.split(".")[1]) == len(sigma.split(".")[1])
+    assert 10 <= int(sigma.replace(".", "").lstrip("0")) <= 99

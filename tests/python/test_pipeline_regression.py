@@ -17,9 +17,29 @@ SKYPHASE = os.environ.get("WVR_SKYPHASE", "")
 TESTDATA = os.environ.get("WVR_TESTDATA_DIR", os.path.join(os.path.dirname(__file__), "..", "..", "testdata"))
 EXPECTED = os.path.join(TESTDATA, "regression", "matched-demo-before-pipeline.json")
 
-# Verdict changes made on purpose since the expected values were recorded: (start_s, old, new)
-# with the reason beside each. Empty while the diagnosis rules are unchanged.
-INTENDED_VERDICT_CHANGES = {}
+# Verdict changes made on purpose since the expected values were recorded: start_s -> the new
+# (verdict, inherited), the old one and the reason beside each.
+_SICK_UNIT = "one sick radiometer flags its antenna; the array verdict describes the healthy ones"
+INTENDED_VERDICT_CHANGES = {
+    # CV12's spikes (1200-1800 s): was radiometer fault for the whole array.
+    1200.0: ("corrected", False),  # _SICK_UNIT
+    1260.0: ("corrected", True),  # _SICK_UNIT; the target scan takes its sky from 1200 s
+    1500.0: ("corrected", False),  # _SICK_UNIT
+    # The target scan before the cloud inherited "cloud" although its own radiometers show none.
+    2160.0: ("corrected", True),
+    # CV28's gain drift (5400-7200 s): was radiometer fault for the whole array.
+    5460.0: ("corrected", True),  # _SICK_UNIT (the drift is still small here: CV28 not flagged)
+    5700.0: ("corrected", False),  # _SICK_UNIT
+    5760.0: ("corrected", True),  # _SICK_UNIT
+    6000.0: ("corrected", False),  # _SICK_UNIT
+    6060.0: ("corrected", True),  # _SICK_UNIT
+    6300.0: ("corrected", False),  # _SICK_UNIT
+    6360.0: ("corrected", True),  # _SICK_UNIT
+    6600.0: ("corrected", False),  # _SICK_UNIT
+    6660.0: ("corrected", True),  # _SICK_UNIT
+    6900.0: ("corrected", False),  # _SICK_UNIT
+    6960.0: ("corrected", True),  # _SICK_UNIT
+}
 
 
 def run(*args):

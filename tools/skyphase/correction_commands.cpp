@@ -58,7 +58,7 @@ void print_summary(const wvr::Night& night,
     std::cout << j.dump(2) << "\n";
     return;
   }
-  std::cout << "scale " << fixed(scale, 4) << " +/- " << fixed(scale_sigma, 4)
+  std::cout << "scale " << with_uncertainty(scale, scale_sigma)
             << (calibrated ? "" : " (the scaling solve failed: corrections use scale 1)") << " ["
             << status << "]\n"
             << "calibrator phase rms (median over " << m.baselines.size()

@@ -8,6 +8,7 @@
 
 #include "commands.hpp"
 #include "diagnose_output.hpp"
+#include "output.hpp"
 #include "pipeline.hpp"
 #include "wvr/diagnosis.hpp"
 #include "wvr/error.hpp"
@@ -71,6 +72,27 @@ DiagnosedNight diagnose_and_write(const CommonOptions& o) {
     thresholds_json[f.name] = diagnosis.thresholds.*(f.member);
   j["thresholds"] = thresholds_json;
   j["thresholds_source"] = o.thresholds_file.empty() ? "defaults" : o.thresholds_file;
+  const wvr::RadiometerFloor& floor = diagnosis.radiometer_floor;
+  nlohmann::ordered_json model_error = nlohmann::ordered_json::array();
+  for (std::size_t a = 0; a < diagnosis.antenna_names.size(); ++a) {
+    const std::size_t nc = floor.model_error_k.size();
+    model_error.push_back(
+        {{"antenna", diagnosis.antenna_names[a]},
+         {"model_error_k", std::vector<double>(floor.antenna_model_error_k.begin() + a * nc,
+                                               floor.antenna_model_error_k.begin() + (a + 1) * nc)},
+         {"systematic_offset_k",
+          std::vector<double>(floor.systematic_offset_k.begin() + a * nc,
+                              floor.systematic_offset_k.begin() + (a + 1) * nc)}});
+  }
+  j["radiometer_floor"] = {{"description", floor.describe()},
+                           {"channels", floor.channel_names},
+                           {"thermal_noise_k", floor.thermal_noise_k},
+                           {"model_error_k", floor.model_error_k},
+                           {"systematic_window_s", floor.systematic_window_s},
+                           {"slow_common_rms_k", json_number(floor.slow_common_rms_k)},
+                           {"chi2_per_dof_thermal", json_number(floor.chi2_per_dof_thermal)},
+                           {"chi2_per_dof_floor", json_number(floor.chi2_per_dof_floor)},
+                           {"antennas", model_error}};
   j["site"] = site_json(r.site);
   j["obs_freq_ghz"] = r.obs_freq->freq_ghz;
   j["obs_freq_source"] = wvr::to_string(r.obs_freq->source);
@@ -87,15 +109,22 @@ namespace {
 
 void print_text(const DiagnosedNight& d) {
   const auto& s = d.json["summary"];
-  std::cout << "scale " << s["scale"] << ", phase rms " << s["phase_rms_before_deg"] << " -> "
-            << s["phase_rms_after_deg"] << " deg (median over baselines)\n";
+  auto number = [&](const char* key) {
+    return s[key].is_number() ? s[key].get<double>() : std::nan("");
+  };
+  std::cout << "scale " << with_uncertainty(number("scale"), number("scale_sigma"))
+            << ", phase rms " << fixed(number("phase_rms_before_deg"), 2) << " -> "
+            << fixed(number("phase_rms_after_deg"), 2) << " deg (median over baselines)\n";
   for (const auto& [verdict, count] : s["verdict_counts"].items()) {
     std::cout << "  " << verdict << ": " << count << " scans\n";
   }
   for (const auto& note : d.json["notes"]) std::cout << "note: " << note.get<std::string>() << "\n";
   Table table({"start_s", "stop_s", "kind", "verdict", "reason"});
   for (const wvr::WindowDiagnosis& w : d.processed.result.diagnosis->windows) {
-    if (w.verdict == wvr::Verdict::kCorrected && !w.calibrator) continue;  // keep the list short
+    bool flagged = false;
+    for (std::uint8_t f : w.antenna_faults) flagged |= f != 0;
+    // Keep the list short: corrected target scans only when they flag an antenna.
+    if (w.verdict == wvr::Verdict::kCorrected && !w.calibrator && !flagged) continue;
     table.add_row({fixed(w.start_s, 0), fixed(w.stop_s, 0), w.calibrator ? "calibrator" : "target",
                    wvr::to_string(w.verdict) + (w.inherited ? " (inherited)" : ""), w.reason});
   }

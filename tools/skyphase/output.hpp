@@ -14,7 +14,8 @@ enum class Format { kTable, kCsv, kJson };
 // Adds "--format table|csv|json" (default table) to a subcommand.
 void add_format_option(CLI::App& command, Format& format);
 
-// Rows of numbers under named columns; text columns are allowed through `text_columns`.
+// Rows of cells under named columns. As text: each column as wide as its widest cell, columns
+// of numbers right-aligned, others left-aligned, the last column unpadded.
 class Table {
  public:
   explicit Table(std::vector<std::string> columns) : columns_(std::move(columns)) {}
@@ -29,6 +30,9 @@ class Table {
 
 // Fixed-point text with `digits` decimals.
 std::string fixed(double value, int digits);
+// "value +/- sigma" with the decimals that two significant digits of sigma need (4 decimals
+// without a usable sigma).
+std::string with_uncertainty(double value, double sigma);
 // Shortest text that reads back to the same double.
 std::string exact(double value);
 

@@ -10,16 +10,23 @@
 // scans have no phases: radiometer-only evidence (clouds, antenna faults) is judged directly
 // and the phase-based verdict is inherited from the neighbouring calibrator scans.
 //
-// Verdicts (our vocabulary), first match wins for the array:
+// Verdicts (our vocabulary), first match wins for the array; the array verdict describes the
+// healthy antennas (a flagged antenna is named in antenna_faults, not in the verdict):
 //   cannot judge      no calibrator phases or no usable radiometer in the window;
-//   cloud             most antennas' retrieval chi2/dof above cloud_chi2_per_dof;
+//   cloud             most antennas' radiometer residual changed: chi2/dof above
+//                     cloud_chi2_per_dof against the floor (RadiometerFloor: thermal noise
+//                     plus the night's own model error, after the residual's systematic part);
+//   radiometer fault  more than fault_array_fraction of the antennas flagged below;
 //   quiet sky         phase scatter before correction within quiet_floor_ratio x floor;
-//   scale off         correlation above scale_min_correlation, the observed/predicted slope
-//                     outside 1 +/- scale_tolerance, and the prediction rescaled by that
-//                     slope leaves no more than dry_floor_ratio x the floor;
+//   scale off         correlation above scale_min_correlation and either the observed/predicted
+//                     slope outside 1 +/- scale_tolerance with the prediction rescaled by that
+//                     slope leaving no more than dry_floor_ratio x the floor, or a residual
+//                     above dry_floor_ratio x floor that rescaling per baseline brings within
+//                     quiet_floor_ratio x floor (per-antenna scales: radiometer gains);
 //   dry turbulence    residual after correction above dry_floor_ratio x floor;
-//   radiometer fault  (array is otherwise fine) one or more antennas flagged below;
 //   corrected         otherwise.
+// A target scan whose own radiometers show no cloud takes the phase-based verdict of a
+// neighbouring calibrator scan, never its cloud.
 // Antenna faults: unusable retrieval samples above fault_unusable_fraction, a channel whose
 // brightness varies less than stuck_noise_fraction x its noise, spikes (samples with chi2/dof
 // above spike_chi2_per_dof in more than spike_fraction of samples), chi2/dof above
@@ -76,6 +83,8 @@ struct DiagnosisThresholds {
   double spike_fraction = 0.005;
   double fault_chi2_ratio = 4.0;
   double fault_residual_ratio = 3.0;
+  double fault_array_fraction = 0.5;
+  double systematic_window_s = 3600.0;
 
   void validate() const;  // throws InvalidInput
 };
@@ -105,12 +114,29 @@ struct WindowDiagnosis {
   // Array statistics (medians over healthy baselines; NaN when not measured).
   double rms_before_deg = 0.0, rms_after_deg = 0.0, floor_deg = 0.0;
   double improvement_factor = 0.0, correlation = 0.0, slope = 0.0;
-  double radiometer_path_rms_um = 0.0, chi2_per_dof = 0.0;
+  double radiometer_path_rms_um = 0.0;
+  double chi2_per_dof = 0.0;  // median residual chi2/dof against the radiometer floor
+};
+
+// The floor the radiometer evidence (cloud, spikes, inconsistent channels) was judged against:
+// thermal noise plus the model error the night itself shows, after its systematic part.
+struct RadiometerFloor {
+  std::vector<std::string> channel_names;
+  std::vector<double> thermal_noise_k;        // [channel], per sample (the radiometer's noise_k)
+  std::vector<double> model_error_k;          // [channel], median over antennas of the next
+  std::vector<double> antenna_model_error_k;  // [antenna, channel], non-thermal rms per sample
+  std::vector<double> systematic_offset_k;    // [antenna, channel], median residual over the night
+  double systematic_window_s = 0.0;           // span of the slow array-common part
+  double slow_common_rms_k = 0.0;             // rms over windows and channels of that slow part
+  double chi2_per_dof_thermal = 0.0;  // median retrieval chi2/dof against thermal noise alone
+  double chi2_per_dof_floor = 0.0;    // median chi2/dof after the systematic part, vs the floor
+  std::string describe() const;       // one line with the numbers
 };
 
 struct NightDiagnosis {
   std::vector<std::string> antenna_names;
   std::vector<WindowDiagnosis> windows;
+  RadiometerFloor radiometer_floor;
   DiagnosisThresholds thresholds;
   std::vector<std::string> notes;  // what could not be judged and why
 };

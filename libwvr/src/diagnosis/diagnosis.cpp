@@ -7,6 +7,8 @@
 #include <sstream>
 
 #include "core/statistics.hpp"
+#include "diagnosis/inheritance.hpp"
+#include "diagnosis/residual_floor.hpp"
 #include "diagnosis/residual_trend.hpp"
 #include "wvr/constants.hpp"
 #include "wvr/error.hpp"
@@ -62,6 +64,8 @@ void DiagnosisThresholds::validate() const {
   require_in_range("spike_fraction", spike_fraction, 0.0, 1.0);
   require_in_range("fault_chi2_ratio", fault_chi2_ratio, 1.0, 1e6);
   require_in_range("fault_residual_ratio", fault_residual_ratio, 1.0, 1e6);
+  require_in_range("fault_array_fraction", fault_array_fraction, 0.0, 1.0);
+  require_in_range("systematic_window_s", systematic_window_s, 60.0, 1e7);
 }
 
 namespace {
@@ -79,6 +83,7 @@ struct BaselineWindow {
 // Radiometer-only evidence for antenna a over samples [k0, k1).
 std::uint8_t antenna_radiometer_faults(const Night& night,
                                        const NightRetrieval& r,
+                                       const std::vector<double>& sample_chi2,
                                        std::size_t a,
                                        std::size_t k0,
                                        std::size_t k1,
@@ -96,7 +101,8 @@ std::uint8_t antenna_radiometer_faults(const Night& night,
       ++unusable;
       continue;
     }
-    const double c = r.chi2_per_dof[a * nt + k];
+    const double c = sample_chi2[a * nt + k];
+    if (!std::isfinite(c)) continue;
     chi2.push_back(c);
     if (c > th.spike_chi2_per_dof) ++spikes;
     for (std::size_t ch = 0; ch < nc; ++ch) {
@@ -151,12 +157,18 @@ NightDiagnosis diagnose_night(const Night& night,
         "diagnosis: corrected phases do not match the night's calibrator phase rows");
   }
   NightDiagnosis d;
+  std::vector<bool> radiometer_judged;  // [window]: own radiometer evidence, no array fault
   d.antenna_names = night.array.antenna_names;
   d.thresholds = th;
   if (cp.time_s.empty())
     d.notes.push_back("no calibrator phases: phase-based verdicts cannot be judged");
   if (na < 2)
     d.notes.push_back("a single antenna: no baselines, phase-based verdicts cannot be judged");
+  // Radiometer evidence is judged against thermal noise plus the model error the night shows,
+  // after the residual's systematic part (offsets per antenna and channel, a slow common part).
+  const detail::ResidualEvidence evidence =
+      detail::residual_evidence(night, r, th.systematic_window_s);
+  d.radiometer_floor = evidence.floor;
   const auto& times = night.radiometer.time_s;
   auto sample_index = [&](double t) {
     return static_cast<std::size_t>(std::lower_bound(times.begin(), times.end(), t) -
@@ -183,6 +195,28 @@ NightDiagnosis diagnose_night(const Night& night,
     }
     return it->second;
   };
+  // Median residual chi2 of every antenna in every scan, and each antenna's usual level
+  // relative to the array: a unit whose channels differ a little more from the model all night
+  // (a larger gain error) is not a fault; up to half the fault ratio is allowed for it.
+  std::vector<std::vector<double>> scan_chi2(night.scans.size(), std::vector<double>(na));
+  std::vector<double> usual_level(na, 1.0);
+  {
+    std::vector<std::vector<double>> relative(na);
+    for (std::size_t s = 0; s < night.scans.size(); ++s) {
+      const std::size_t k0 = sample_index(night.scans[s].start_s),
+                        k1 = sample_index(night.scans[s].stop_s);
+      for (std::size_t a = 0; a < na; ++a) {
+        antenna_radiometer_faults(night, r, evidence.chi2_per_dof, a, k0, k1, std::nan(""), th,
+                                  scan_chi2[s][a]);
+      }
+      const double array_chi2 = detail::finite_median(scan_chi2[s]);
+      for (std::size_t a = 0; a < na; ++a) relative[a].push_back(scan_chi2[s][a] / array_chi2);
+    }
+    for (std::size_t a = 0; a < na; ++a) {
+      const double level = detail::finite_median(relative[a]);
+      if (std::isfinite(level)) usual_level[a] = std::clamp(level, 1.0, 0.5 * th.fault_chi2_ratio);
+    }
+  }
   for (std::size_t s = 0; s < night.scans.size(); ++s) {
     const Scan& scan = night.scans[s];
     WindowDiagnosis w;
@@ -191,15 +225,15 @@ NightDiagnosis diagnose_night(const Night& night,
     w.calibrator = scan.intent == ScanIntent::kCalibrator;
     w.antenna_faults.assign(na, 0);
     const std::size_t k0 = sample_index(scan.start_s), k1 = sample_index(scan.stop_s);
-    // Radiometer evidence: chi2 per antenna, then faults against the array median.
-    std::vector<double> chi2(na, std::nan(""));
-    double unused = 0.0;
-    for (std::size_t a = 0; a < na; ++a)
-      antenna_radiometer_faults(night, r, a, k0, k1, std::nan(""), th, chi2[a]);
+    // Radiometer evidence: chi2 per antenna, then faults against the array median, each
+    // antenna allowed its own usual level.
+    const std::vector<double>& chi2 = scan_chi2[s];
     const double array_chi2 = detail::finite_median(chi2);
+    double unused = 0.0;
     std::size_t cloudy = 0, judged = 0;
     for (std::size_t a = 0; a < na; ++a) {
-      w.antenna_faults[a] = antenna_radiometer_faults(night, r, a, k0, k1, array_chi2, th, unused);
+      w.antenna_faults[a] = antenna_radiometer_faults(night, r, evidence.chi2_per_dof, a, k0, k1,
+                                                      array_chi2 * usual_level[a], th, unused);
       if (std::isfinite(chi2[a])) {
         ++judged;
         if (chi2[a] > th.cloud_chi2_per_dof) ++cloudy;
@@ -254,9 +288,14 @@ NightDiagnosis diagnose_night(const Night& night,
         // Predicted = observed minus corrected (the radiometer phase), wrapped about its mean.
         pred.push_back(std::remainder(cp.phase_rad[i] - metrics.corrected_phase_rad[i], kTwoPi));
       }
-      double pm = 0.0;
-      for (double p : pred) pm += p;
-      pm /= static_cast<double>(pred.size());
+      // Circular mean: an absolute radiometer path (offsets, a model that differs from the sky)
+      // can put the predicted phase near +/-pi, where an arithmetic mean of wrapped values fails.
+      double pc = 0.0, ps = 0.0;
+      for (double p : pred) {
+        pc += std::cos(p);
+        ps += std::sin(p);
+      }
+      const double pm = std::atan2(ps, pc);
       double sxy = 0, sxx = 0, syy = 0;
       for (std::size_t j = 0; j < pred.size(); ++j) {
         const double x = std::remainder(pred[j] - pm, kTwoPi);
@@ -333,8 +372,13 @@ NightDiagnosis diagnose_night(const Night& night,
     w.correlation = detail::finite_median(corr);
     w.slope = detail::finite_median(slopes);
     w.radiometer_path_rms_um = detail::finite_median(pred_rms);
-    bool any_fault = false;
-    for (std::uint8_t f : w.antenna_faults) any_fault |= f != 0;
+    std::size_t flagged = 0;
+    for (std::uint8_t f : w.antenna_faults) flagged += f != 0;
+    // One sick radiometer flags its antenna; the array verdict describes the healthy ones
+    // unless too few are left to speak for the array.
+    const bool array_fault = flagged > 0 && static_cast<double>(flagged) >
+                                                th.fault_array_fraction * static_cast<double>(na);
+    const bool healthy_baselines = !before.empty();
     std::ostringstream reason;
     reason.precision(3);
     if (judged == 0) {
@@ -342,38 +386,51 @@ NightDiagnosis diagnose_night(const Night& night,
       reason << "no usable radiometer sample";
     } else if (cloud) {
       w.verdict = Verdict::kCloud;
-      reason << cloudy << " of " << judged << " antennas have retrieval chi2/dof above "
-             << th.cloud_chi2_per_dof << " (median " << array_chi2 << ")";
-    } else if (!w.calibrator || baselines.empty()) {
-      w.verdict = any_fault ? Verdict::kRadiometerFault : Verdict::kCannotJudge;
-      reason << (w.calibrator ? "no usable calibrator phases" : "target scan");
-      if (any_fault) reason << "; radiometer evidence flags antennas";
+      reason << "the radiometer residual changed: " << cloudy << " of " << judged
+             << " antennas have chi2/dof above " << th.cloud_chi2_per_dof
+             << " against the floor (median " << array_chi2 << ")";
+    } else if (array_fault) {
+      w.verdict = Verdict::kRadiometerFault;
+      reason << flagged << " of " << na
+             << " antennas flagged, too few healthy ones to judge the sky";
+    } else if (!w.calibrator) {
+      w.verdict = Verdict::kCannotJudge;
+      reason << "target scan: no calibrator phases";
+    } else if (baselines.empty()) {
+      w.verdict = Verdict::kCannotJudge;
+      reason << "no usable calibrator phases";
+    } else if (!healthy_baselines) {
+      w.verdict = Verdict::kCannotJudge;
+      reason << "every baseline with phases contains a flagged antenna";
     } else if (w.rms_before_deg < th.quiet_floor_ratio * w.floor_deg) {
-      w.verdict = any_fault ? Verdict::kRadiometerFault : Verdict::kQuietSky;
+      w.verdict = Verdict::kQuietSky;
       reason << "phase rms before " << w.rms_before_deg << " deg is within " << th.quiet_floor_ratio
              << " x the floor " << w.floor_deg << " deg";
     } else if (w.correlation > th.scale_min_correlation &&
-               std::abs(w.slope - 1.0) > th.scale_tolerance &&
-               refit_deg <= th.dry_floor_ratio * w.floor_deg) {
+               ((std::abs(w.slope - 1.0) > th.scale_tolerance &&
+                 refit_deg <= th.dry_floor_ratio * w.floor_deg) ||
+                (w.rms_after_deg > th.dry_floor_ratio * w.floor_deg &&
+                 refit_deg <= th.quiet_floor_ratio * w.floor_deg))) {
+      // What correction left is the radiometer prediction itself, at the wrong scale: for the
+      // array (the median slope is off), or per antenna (slopes differ between baselines, as
+      // radiometer gains a few per cent apart make them; rescaled per baseline, the residual
+      // then falls to the noise floor, which dry air would not let it).
       w.verdict = Verdict::kScaleOff;
-      reason << "correlation " << w.correlation << " but observed/predicted slope " << w.slope
-             << "; rescaled, the residual " << refit_deg << " deg is within " << th.dry_floor_ratio
-             << " x the floor";
+      reason << "correlation " << w.correlation << ", observed/predicted slope " << w.slope
+             << " (median over baselines); rescaled per baseline, the residual " << refit_deg
+             << " deg is near the floor " << w.floor_deg << " deg (" << w.rms_after_deg
+             << " deg as corrected)";
     } else if (w.rms_after_deg > th.dry_floor_ratio * w.floor_deg) {
       w.verdict = Verdict::kDryTurbulence;
       reason << "residual " << w.rms_after_deg << " deg is above " << th.dry_floor_ratio
              << " x the floor " << w.floor_deg << " deg; radiometers see "
              << w.radiometer_path_rms_um << " um rms, correlation " << w.correlation;
-    } else if (any_fault) {
-      w.verdict = Verdict::kRadiometerFault;
-      reason << "array corrected to " << w.rms_after_deg << " deg (floor " << w.floor_deg
-             << " deg) apart from flagged antennas";
     } else {
       w.verdict = Verdict::kCorrected;
       reason << "phase rms " << w.rms_before_deg << " -> " << w.rms_after_deg << " deg (floor "
              << w.floor_deg << " deg), correlation " << w.correlation;
     }
-    if (any_fault) {
+    if (flagged > 0) {
       reason << "; flagged:";
       for (std::size_t a = 0; a < na; ++a) {
         if (w.antenna_faults[a])
@@ -381,11 +438,13 @@ NightDiagnosis diagnose_night(const Night& night,
                  << describe_antenna_faults(w.antenna_faults[a]) << ")";
       }
     }
+    radiometer_judged.push_back(judged > 0 && !array_fault);
     w.reason = reason.str();
     d.windows.push_back(std::move(w));
   }
   // Antenna faults persist: a window between two windows that flag the same antenna is
-  // flagged too (intermittent faults such as spikes need not show in every short scan).
+  // flagged too (intermittent faults such as spikes need not show in every short scan). The
+  // array verdict stays with the healthy antennas.
   for (std::size_t a = 0; a < na; ++a) {
     for (std::size_t i = 1; i + 1 < d.windows.size(); ++i) {
       WindowDiagnosis& w = d.windows[i];
@@ -393,51 +452,11 @@ NightDiagnosis diagnose_night(const Night& night,
           d.windows[i - 1].antenna_faults[a] & d.windows[i + 1].antenna_faults[a];
       if (around == 0 || (w.antenna_faults[a] & around) == around) continue;
       w.antenna_faults[a] |= around;
-      if (w.verdict == Verdict::kCorrected || w.verdict == Verdict::kQuietSky ||
-          w.verdict == Verdict::kCannotJudge) {
-        w.verdict = Verdict::kRadiometerFault;
-      }
       w.reason += "; " + night.array.antenna_names[a] + " flagged between faulty windows (" +
                   describe_antenna_faults(around) + ")";
     }
   }
-  // Target scans inherit the phase-based verdict of the neighbouring calibrator scans when
-  // their own (radiometer-only) evidence shows nothing.
-  for (std::size_t i = 0; i < d.windows.size(); ++i) {
-    WindowDiagnosis& w = d.windows[i];
-    if (w.calibrator || w.verdict != Verdict::kCannotJudge) continue;
-    const WindowDiagnosis* before = nullptr;
-    const WindowDiagnosis* after = nullptr;
-    for (std::size_t j = i; j-- > 0;) {
-      if (d.windows[j].calibrator) {
-        before = &d.windows[j];
-        break;
-      }
-    }
-    for (std::size_t j = i + 1; j < d.windows.size(); ++j) {
-      if (d.windows[j].calibrator) {
-        after = &d.windows[j];
-        break;
-      }
-    }
-    // A neighbour judged only by its antenna faults says nothing about the sky: use the other.
-    auto sky_verdict = [](const WindowDiagnosis* n) {
-      return n != nullptr && n->verdict != Verdict::kRadiometerFault &&
-             n->verdict != Verdict::kCannotJudge;
-    };
-    const WindowDiagnosis* source =
-        sky_verdict(before) ? before : (sky_verdict(after) ? after : nullptr);
-    if (sky_verdict(before) && sky_verdict(after) && after->verdict != Verdict::kCorrected &&
-        after->verdict != Verdict::kQuietSky) {
-      source = after;  // a problem starting in the next calibrator scan covers this target scan
-    }
-    if (source == nullptr) continue;
-    w.verdict = source->verdict;
-    w.inherited = true;
-    w.reason = "inherited from the calibrator scan at " +
-               std::to_string(static_cast<long>(source->start_s)) +
-               " s (radiometer-only evidence shows no cloud or antenna fault)";
-  }
+  detail::inherit_target_verdicts(d.windows, radiometer_judged);
   return d;
 }
 
@@ -485,6 +504,15 @@ ResultGroup diagnosis_result_group(const NightDiagnosis& d) {
   g.datasets.push_back({"chi2_per_dof", {nw}, chi2, "1", {}});
   g.datasets.push_back({"radiometer_path_rms_um", {nw}, path, "um", {}});
   g.datasets.push_back({"antenna_faults", {na, nw}, faults, "1", {}});
+  const RadiometerFloor& f = d.radiometer_floor;
+  const std::size_t nc = f.model_error_k.size();
+  if (nc > 0) {
+    g.datasets.push_back({"radiometer_thermal_noise_k", {nc}, f.thermal_noise_k, "K", {}});
+    g.datasets.push_back({"radiometer_model_error_k", {na, nc}, f.antenna_model_error_k, "K", {}});
+    g.datasets.push_back(
+        {"radiometer_systematic_offset_k", {na, nc}, f.systematic_offset_k, "K", {}});
+  }
+  g.attributes["radiometer_floor"] = f.describe();
   return g;
 }
 

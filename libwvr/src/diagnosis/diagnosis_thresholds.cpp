@@ -13,9 +13,9 @@ namespace wvr {
 
 std::span<const DiagnosisThresholdField> diagnosis_threshold_fields() {
   using T = DiagnosisThresholds;
-  static constexpr std::array<DiagnosisThresholdField, 12> kFields = {{
+  static constexpr std::array<DiagnosisThresholdField, 14> kFields = {{
       {"cloud_chi2_per_dof", &T::cloud_chi2_per_dof,
-       "an antenna's retrieval chi2/dof above this counts as cloudy"},
+       "an antenna's residual chi2/dof against the radiometer floor above this counts as cloudy"},
       {"cloud_antenna_fraction", &T::cloud_antenna_fraction,
        "a window is cloud when more than this fraction of antennas is cloudy"},
       {"quiet_floor_ratio", &T::quiet_floor_ratio,
@@ -37,6 +37,12 @@ std::span<const DiagnosisThresholdField> diagnosis_threshold_fields() {
        "antenna fault: chi2/dof above this x the array median"},
       {"fault_residual_ratio", &T::fault_residual_ratio,
        "antenna fault: phase residual above this x the array's at that baseline length"},
+      {"fault_array_fraction", &T::fault_array_fraction,
+       "the array verdict is radiometer fault only when more than this fraction of antennas "
+       "is flagged (else it describes the healthy antennas)"},
+      {"systematic_window_s", &T::systematic_window_s,
+       "span (s) of the running median that takes the slow array-common model error out of the "
+       "radiometer residual before clouds and faults are judged"},
   }};
   return kFields;
 }
