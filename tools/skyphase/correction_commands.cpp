@@ -73,6 +73,7 @@ void print_summary(const wvr::Night& night,
 struct CalibrateOptions {
   CommonOptions common;
   bool per_antenna = false;
+  bool baseline_solve = false;
   double segment_s = 0.0;
   int reference_antenna = 0;
 };
@@ -81,6 +82,7 @@ void run_calibrate(const CalibrateOptions& o) {
   wvr::NightProcessingOptions options = processing_options(o.common, wvr::NightStage::kCalibration);
   wvr::CalibrationOptions calibration;
   calibration.per_antenna_scale = o.per_antenna;
+  if (o.baseline_solve) calibration.form = wvr::ScalingSolveForm::kBaselinePhases;
   calibration.segment_s = o.segment_s;
   calibration.reference_antenna = o.reference_antenna;
   options.calibration = calibration;
@@ -111,6 +113,8 @@ void add_calibrate_command(CLI::App& app) {
   add_common(*cmd, options->common);
   cmd->add_flag("--per-antenna", options->per_antenna,
                 "Also fit one scale per antenna (prior around the array scale)");
+  cmd->add_flag("--baseline-solve", options->baseline_solve,
+                "Fit every baseline phase instead of antenna phases (memory grows with baselines)");
   cmd->add_option("--segment-s", options->segment_s,
                   "Fit one array scale per time segment of this length (s)");
   cmd->add_option("--reference-antenna", options->reference_antenna, "Reference antenna index")

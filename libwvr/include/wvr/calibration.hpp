@@ -14,6 +14,19 @@
 // come from a grid search over the array scale with closed-form (circular-mean) offsets, so
 // the solve also works at 650 GHz where the uncorrected phase wraps many times. Solver: Ceres
 // (sparse normal Cholesky); uncertainties: ceres::Covariance of the scale blocks.
+//
+// Antenna phases (the default form): an integration whose baselines all include the reference
+// antenna is fitted as it is (its rows already are antenna phases). An integration with
+// redundant baselines is first reduced to antenna phases psi_a, the least-squares solution of
+// the same wrap-aware (1 - cos) cost, sum over baselines |e^i phi_ab - e^i (psi_b - psi_a)|^2
+// (circular-mean sweeps from a spanning tree), and the fit then models
+//   psi_a(t) = k_f s_a L_a(t) + o_a,n + c(t)                      (wrapped)
+// with one common phase c(t) per integration. For small residuals the baseline cost is a
+// constant plus the graph Laplacian form of the antenna residuals; with every baseline present
+// that form is N times the antenna residuals about their mean, so each antenna row carries
+// weight N (in general 1 + 2 B / N for B baselines among N antennas, exact for complete and
+// two-antenna graphs, an approximation for others). Memory then grows with antennas x
+// integrations, not with baselines.
 
 #include <functional>
 #include <string>
@@ -32,7 +45,14 @@ struct AntennaPaths {
   std::vector<std::uint8_t> flags;  // [antenna, time], CorrectorFlag bits (0 = usable)
 };
 
+// Which phases the scaling is fitted on (see the top of this file).
+enum class ScalingSolveForm {
+  kAntennaPhases,   // redundant baselines reduced to antenna phases per integration first
+  kBaselinePhases,  // every baseline phase row fitted; memory grows with baselines
+};
+
 struct CalibrationOptions {
+  ScalingSolveForm form = ScalingSolveForm::kAntennaPhases;
   bool per_antenna_scale = false;
   double antenna_scale_prior_sigma = 0.1;  // prior N(array scale, sigma) on each antenna scale
   double segment_s = 0.0;                  // > 0: one array scale per segment of this length
@@ -41,6 +61,7 @@ struct CalibrationOptions {
   double scale_search_min = 0.3;  // grid search range of the array scale
   double scale_search_max = 2.0;
   int max_iterations = 100;
+  int threads = 0;  // worker threads of the grid search and the solver (0 = all cores)
 
   void validate() const;  // throws InvalidInput
 };

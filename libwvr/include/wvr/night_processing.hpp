@@ -46,7 +46,7 @@ struct NightProcessingOptions {
   // Unset: the stored retrieval if any, else the defaults; set: retrieved with these unless a
   // stored retrieval was made with the same options.
   std::optional<NightRetrievalOptions> retrieval;
-  int threads = 0;  // worker threads of the retrieval (0 = all cores); never part of a key
+  int threads = 0;  // worker threads of retrieval and scaling solve (0 = all cores); not in keys
   // Unset: the stored calibration if any, else the defaults; set: solved with these unless a
   // stored calibration was made with the same options.
   std::optional<CalibrationOptions> calibration;

@@ -2,13 +2,16 @@
 // numbers from memory, formulas checked against the official validation table in tests).
 //
 // gamma = 0.1820 f (N''_ox + N''_wv) dB/km with f in GHz, p and e in hPa, theta = 300/T.
-// The code is templated on the scalar so that one rendering of the equations serves
-// both plain values and ceres::Jet partial derivatives.
+// Line parameters depend on the gas state only, so they are computed once per call (as
+// ceres::Jet when partial derivatives are wanted) and the line sum then runs over all
+// frequencies at once (absorption/p676_line_sum.hpp).
 #include <ceres/jet.h>
 
+#include <array>
 #include <cmath>
 #include <vector>
 
+#include "absorption/p676_line_sum.hpp"
 #include "absorption/p676_terms.hpp"
 #include "wvr/absorption.hpp"
 #include "wvr/error.hpp"
@@ -16,37 +19,44 @@
 namespace wvr {
 namespace {
 
-using ceres::pow;
+using detail::LineTable;
 using detail::LineTerm;
 using detail::oxygen_terms;
+using detail::power;
 using detail::water_terms;
-using std::pow;
 
 // Conversion of N'' (dB/km per 0.1820 f) to Np/m: gamma_db_per_km / 4342.94...
 constexpr double kNpPerMPerDbPerKm = 1.0 / 4342.944819032518;
 
-// eq. 5: line shape factor F_i (GHz^-1) times strength, summed over lines.
+// eq. 8-9: dry-air continuum N''_D = f p theta^2 [6.14e-5 / (d (1 + (f/d)^2)) +
+// 1.4e-12 p theta^1.5 / (1 + 1.9e-5 f^1.5)], d = 5.6e-4 (p + e) theta^0.8. The
+// frequency-independent factors are computed once per gas state.
 template <typename S>
-S line_sum(double f, const std::vector<LineTerm<S>>& terms) {
-  S sum(0.0);
-  for (const LineTerm<S>& t : terms) {
-    const double below = t.f0_ghz - f;
-    const double above = t.f0_ghz + f;
-    const S w2 = t.width * t.width;
-    const S shape = (f / t.f0_ghz) * ((t.width - t.mixing * below) / (below * below + w2) +
-                                      (t.width - t.mixing * above) / (above * above + w2));
-    sum += t.strength * shape;
+struct DryContinuum {
+  DryContinuum(const S& p, const S& e, const S& theta)
+      : width(5.6e-4 * (p + e) * power(theta, 0.8)),
+        p_theta2(p * theta * theta),
+        nitrogen(1.4e-12 * p * power(theta, 1.5)) {}
+  S at(double f) const {
+    return f * p_theta2 *
+           (6.14e-5 / (width * (1.0 + (f / width) * (f / width))) +
+            nitrogen / (1.0 + 1.9e-5 * std::pow(f, 1.5)));
   }
-  return sum;
-}
+  S width, p_theta2, nitrogen;
+};
 
-// eq. 8-9: dry-air continuum N''_D.
-template <typename S>
-S dry_continuum(double f, const S& p, const S& e, const S& theta) {
-  const S d = 5.6e-4 * (p + e) * pow(theta, 0.8);
-  return f * p * theta * theta *
-         (6.14e-5 / (d * (1.0 + (f / d) * (f / d))) +
-          1.4e-12 * p * pow(theta, 1.5) / (1.0 + 1.9e-5 * std::pow(f, 1.5)));
+// Scratch arrays of one thread, reused between calls.
+struct Scratch {
+  std::vector<LineTerm<double>> ox, wv;
+  std::vector<LineTerm<ceres::Jet<double, 3>>> ox_jet, wv_jet;
+  LineTable ox_table, wv_table;
+  std::vector<double> ox_sum, wv_sum;
+  std::array<std::vector<double>, 3> gradient;
+};
+
+Scratch& scratch() {
+  thread_local Scratch s;
+  return s;
 }
 
 class P676Annex1Model final : public AbsorptionModel {
@@ -65,16 +75,22 @@ class P676Annex1Model final : public AbsorptionModel {
     const double p = state.dry_pressure_hpa;
     const double e = state.vapour_pressure_hpa;
     const double theta = 300.0 / state.temperature_k;
-    thread_local std::vector<LineTerm<double>> ox;
-    thread_local std::vector<LineTerm<double>> wv;
-    oxygen_terms(p, e, theta, ox);
-    water_terms(p, e, theta, continuum_scale_, wv);
-    for (std::size_t i = 0; i < freq_ghz.size(); ++i) {
+    const std::size_t nf = freq_ghz.size();
+    Scratch& w = scratch();
+    oxygen_terms(p, e, theta, w.ox);
+    water_terms(p, e, theta, continuum_scale_, w.wv);
+    w.ox_table.assign(w.ox);
+    w.wv_table.assign(w.wv);
+    w.ox_sum.assign(nf, 0.0);
+    w.wv_sum.assign(nf, 0.0);
+    detail::add_line_sum(freq_ghz, w.ox_table, w.ox_sum);
+    detail::add_line_sum(freq_ghz, w.wv_table, w.wv_sum);
+    const DryContinuum<double> continuum(p, e, theta);
+    for (std::size_t i = 0; i < nf; ++i) {
       const double f = freq_ghz[i];
-      const double n_ox = line_sum(f, ox) + dry_continuum(f, p, e, theta);
-      const double n_wv = line_sum(f, wv);
+      const double n_ox = w.ox_sum[i] + continuum.at(f);
       dry_np_per_m[i] = 0.1820 * f * n_ox * kNpPerMPerDbPerKm;
-      water_np_per_m[i] = 0.1820 * f * n_wv * kNpPerMPerDbPerKm;
+      water_np_per_m[i] = 0.1820 * f * w.wv_sum[i] * kNpPerMPerDbPerKm;
     }
   }
 
@@ -87,16 +103,26 @@ class P676Annex1Model final : public AbsorptionModel {
     const Jet e(state.vapour_pressure_hpa, 1);
     const Jet temperature(state.temperature_k, 2);
     const Jet theta = 300.0 / temperature;
-    thread_local std::vector<LineTerm<Jet>> ox;
-    thread_local std::vector<LineTerm<Jet>> wv;
-    oxygen_terms(p, e, theta, ox);
-    water_terms(p, e, theta, continuum_scale_, wv);
-    for (std::size_t i = 0; i < freq_ghz.size(); ++i) {
+    const std::size_t nf = freq_ghz.size();
+    Scratch& w = scratch();
+    oxygen_terms(p, e, theta, w.ox_jet);
+    water_terms(p, e, theta, continuum_scale_, w.wv_jet);
+    w.ox_table.assign(w.ox_jet);
+    w.wv_table.assign(w.wv_jet);
+    w.ox_sum.assign(nf, 0.0);
+    w.wv_sum.assign(nf, 0.0);
+    for (std::vector<double>& g : w.gradient) g.assign(nf, 0.0);
+    const std::array<std::span<double>, 3> gradient = {w.gradient[0], w.gradient[1], w.gradient[2]};
+    detail::add_line_sum_with_gradient(freq_ghz, w.ox_table, w.ox_sum, gradient);
+    detail::add_line_sum_with_gradient(freq_ghz, w.wv_table, w.wv_sum, gradient);
+    const DryContinuum<Jet> continuum(p, e, theta);
+    for (std::size_t i = 0; i < nf; ++i) {
       const double f = freq_ghz[i];
-      const Jet n = line_sum(f, ox) + dry_continuum(f, p, e, theta) + line_sum(f, wv);
-      const Jet gamma = 0.1820 * f * n * kNpPerMPerDbPerKm;
-      total_np_per_m[i] = gamma.a;
-      partials[i] = {gamma.v[0], gamma.v[1], gamma.v[2]};
+      const Jet c = continuum.at(f);
+      const double factor = 0.1820 * f * kNpPerMPerDbPerKm;
+      total_np_per_m[i] = factor * (w.ox_sum[i] + c.a + w.wv_sum[i]);
+      partials[i] = {factor * (w.gradient[0][i] + c.v[0]), factor * (w.gradient[1][i] + c.v[1]),
+                     factor * (w.gradient[2][i] + c.v[2])};
     }
   }
 

@@ -8,7 +8,9 @@
 #include <map>
 #include <numbers>
 #include <sstream>
+#include <unordered_map>
 
+#include "core/parallel_for.hpp"
 #include "wvr/constants.hpp"
 #include "wvr/error.hpp"
 
@@ -22,6 +24,7 @@ void CalibrationOptions::validate() const {
   require_in_range("loss_scale", loss_scale, 1e-3, 2.0);
   require_in_range("scale_search_min", scale_search_min, 0.0, 10.0);
   require_in_range("scale_search_max", scale_search_max, scale_search_min + 1e-6, 20.0);
+  if (threads < 0) throw InvalidInput("threads = " + std::to_string(threads) + " is negative");
   if (max_iterations < 1)
     throw InvalidInput("max_iterations = " + std::to_string(max_iterations) + " must be positive");
 }
@@ -55,16 +58,34 @@ namespace {
 
 constexpr double kTwoPi = 2.0 * std::numbers::pi;
 
+// A phase row fitted as it is: a baseline phase, or an antenna phase against the reference
+// antenna (an integration whose baselines all include the reference).
 struct Row {
   double phase_rad;
   double k_rad_per_mm;  // 2 pi f / c * dispersion factor, per mm of path
   double path_a_mm, path_b_mm;
-  std::size_t a, b, scan, segment;
+  std::uint32_t a, b, scan, segment;
+};
+
+// An antenna phase of an integration with redundant baselines, fitted with the integration's
+// common phase.
+struct AntennaRow {
+  double phase_rad;
+  double k_rad_per_mm;
+  double path_mm;
+  std::uint32_t antenna, scan, segment, integration;
+};
+
+// Per reduced integration: the weight of its antenna rows and, when the reference antenna
+// took part (its phase is then 0), the reference's path for the start-value search.
+struct ReducedIntegration {
+  double weight;
+  double reference_path_mm;  // NaN when the reference antenna is not in the integration
 };
 
 // Chord residual of one baseline phase: (cos obs - cos model, sin obs - sin model).
 struct PhaseResidual {
-  PhaseResidual(const Row& row) : row_(row) {}
+  explicit PhaseResidual(const Row& row) : row_(row) {}
   template <typename T>
   bool operator()(const T* segment_scale,
                   const T* ratio_a,
@@ -80,6 +101,21 @@ struct PhaseResidual {
     return true;
   }
   Row row_;
+};
+
+// Chord residual of one antenna phase with its integration's common phase.
+struct AntennaPhaseResidual {
+  explicit AntennaPhaseResidual(const AntennaRow& row) : row_(row) {}
+  template <typename T>
+  bool operator()(
+      const T* segment_scale, const T* ratio, const T* offset, const T* common, T* residual) const {
+    const T model =
+        row_.k_rad_per_mm * segment_scale[0] * ratio[0] * row_.path_mm + offset[0] + common[0];
+    residual[0] = std::cos(row_.phase_rad) - cos(model);
+    residual[1] = std::sin(row_.phase_rad) - sin(model);
+    return true;
+  }
+  AntennaRow row_;
 };
 
 struct RatioPrior {
@@ -111,23 +147,247 @@ double interpolate_path(const AntennaPaths& paths, std::size_t antenna, double t
   return value;
 }
 
-// Sum over (scan, pair) groups of n - |sum exp(i theta)|: the 1 - cos cost with each group's
-// offset at its circular-mean optimum. Also returns the optimum offsets of reference pairs.
-double closed_form_cost(const std::vector<Row>& rows,
-                        double scale,
-                        std::map<std::pair<std::size_t, std::pair<std::size_t, std::size_t>>,
-                                 std::pair<double, double>>& sums) {
-  sums.clear();
-  for (const Row& r : rows) {
-    const double theta = r.phase_rad - r.k_rad_per_mm * scale * (r.path_b_mm - r.path_a_mm);
-    auto& s = sums[{r.scan, {r.a, r.b}}];
-    s.first += std::cos(theta);
-    s.second += std::sin(theta);
+// One usable baseline phase of an integration, before reduction.
+struct BaselinePhase {
+  std::uint32_t a, b;
+  double phase_rad, path_a_mm, path_b_mm;
+};
+
+// Wrap-aware least-squares antenna phases of one integration: minimises
+// sum |e^i phi_ab - e^i (psi_b - psi_a)|^2 over psi with psi_root = 0, by circular-mean sweeps
+// (each sweep sets every psi_c to its optimum with the others fixed, so the cost never rises)
+// from a spanning tree of the baselines. Antennas outside the root's connected part get NaN.
+class AntennaPhaseReduction {
+ public:
+  explicit AntennaPhaseReduction(std::size_t antennas) : local_(antennas, -1) {}
+
+  // `antennas` receives the integration's antennas (root first), `phase_rad` their phases.
+  void reduce(const std::vector<BaselinePhase>& rows,
+              std::uint32_t root,
+              std::vector<std::uint32_t>& antennas,
+              std::vector<double>& phase_rad) {
+    antennas.clear();
+    auto add = [&](std::uint32_t ant) {
+      if (local_[ant] < 0) {
+        local_[ant] = static_cast<int>(antennas.size());
+        antennas.push_back(ant);
+      }
+    };
+    add(root);
+    for (const BaselinePhase& r : rows) {
+      add(r.a);
+      add(r.b);
+    }
+    auto local = [&](std::uint32_t ant) { return static_cast<std::size_t>(local_[ant]); };
+    const std::size_t n = antennas.size();
+    // Incidence lists (compressed): for antenna c, each row touching it.
+    start_.assign(n + 1, 0);
+    for (const BaselinePhase& r : rows) {
+      ++start_[local(r.a) + 1];
+      ++start_[local(r.b) + 1];
+    }
+    for (std::size_t c = 0; c < n; ++c) start_[c + 1] += start_[c];
+    incident_.resize(2 * rows.size());
+    fill_ = start_;
+    for (std::size_t i = 0; i < rows.size(); ++i) {
+      incident_[fill_[local(rows[i].a)]++] = i;
+      incident_[fill_[local(rows[i].b)]++] = i;
+    }
+    // Spanning tree from the root: psi_b = psi_a + phi_ab.
+    phase_rad.assign(n, std::nan(""));
+    phase_rad[0] = 0.0;
+    queue_.assign(1, 0);
+    for (std::size_t q = 0; q < queue_.size(); ++q) {
+      const std::size_t c = queue_[q];
+      for (std::size_t k = start_[c]; k < start_[c + 1]; ++k) {
+        const BaselinePhase& r = rows[incident_[k]];
+        const bool c_is_a = local(r.a) == c;
+        const std::size_t other = local(c_is_a ? r.b : r.a);
+        if (!std::isnan(phase_rad[other])) continue;
+        phase_rad[other] = std::remainder(
+            c_is_a ? phase_rad[c] + r.phase_rad : phase_rad[c] - r.phase_rad, kTwoPi);
+        queue_.push_back(other);
+      }
+    }
+    // Circular-mean sweeps over the connected antennas; the root keeps phase 0.
+    constexpr int kMaxSweeps = 200;
+    constexpr double kTolerance_rad = 1e-12;
+    for (int sweep = 0; sweep < kMaxSweeps; ++sweep) {
+      double largest_change = 0.0;
+      for (std::size_t q = 1; q < queue_.size(); ++q) {
+        const std::size_t c = queue_[q];
+        double re = 0.0, im = 0.0;
+        for (std::size_t k = start_[c]; k < start_[c + 1]; ++k) {
+          const BaselinePhase& r = rows[incident_[k]];
+          const double estimate = local(r.a) == c ? phase_rad[local(r.b)] - r.phase_rad
+                                                  : phase_rad[local(r.a)] + r.phase_rad;
+          re += std::cos(estimate);
+          im += std::sin(estimate);
+        }
+        const double updated = std::atan2(im, re);
+        largest_change =
+            std::max(largest_change, std::abs(std::remainder(updated - phase_rad[c], kTwoPi)));
+        phase_rad[c] = updated;
+      }
+      if (largest_change < kTolerance_rad) break;
+    }
+    for (std::uint32_t ant : antennas) local_[ant] = -1;
   }
-  double cost = static_cast<double>(rows.size());
-  for (const auto& [key, s] : sums) cost -= std::hypot(s.first, s.second);
-  return cost;
+
+ private:
+  std::vector<int> local_;  // [antenna] index within the current integration, or -1
+  std::vector<std::size_t> start_, fill_, incident_, queue_;
+};
+
+// The rows to fit, built from the night's calibrator phases.
+struct FitRows {
+  std::vector<Row> rows;
+  std::vector<AntennaRow> antenna_rows;
+  std::vector<ReducedIntegration> integrations;
+  std::size_t scans = 0, segments = 1;
+  std::size_t baseline_rows_used = 0, baseline_rows_skipped = 0;
+};
+
+// Adds one integration's usable baseline phases (one time and frequency) to `fit`.
+void add_integration(const std::vector<BaselinePhase>& phases,
+                     double k_rad_per_mm,
+                     std::uint32_t scan,
+                     std::uint32_t segment,
+                     std::uint32_t reference,
+                     ScalingSolveForm form,
+                     AntennaPhaseReduction& reduction,
+                     FitRows& fit) {
+  if (phases.empty()) return;
+  auto has_reference = [&](const BaselinePhase& p) { return p.a == reference || p.b == reference; };
+  if (form == ScalingSolveForm::kBaselinePhases ||
+      std::all_of(phases.begin(), phases.end(), has_reference)) {
+    for (const BaselinePhase& p : phases) {
+      fit.rows.push_back(
+          {p.phase_rad, k_rad_per_mm, p.path_a_mm, p.path_b_mm, p.a, p.b, scan, segment});
+    }
+    fit.baseline_rows_used += phases.size();
+    return;
+  }
+  // Root: the reference antenna when present, else the antenna of the most baselines.
+  const bool reference_present = std::any_of(phases.begin(), phases.end(), has_reference);
+  std::map<std::uint32_t, std::size_t> degree;
+  std::map<std::uint32_t, double> path_mm;
+  for (const BaselinePhase& p : phases) {
+    ++degree[p.a];
+    ++degree[p.b];
+    path_mm[p.a] = p.path_a_mm;
+    path_mm[p.b] = p.path_b_mm;
+  }
+  std::uint32_t root = reference;
+  if (!reference_present) {
+    root = std::max_element(degree.begin(), degree.end(), [](const auto& x, const auto& y) {
+             return x.second < y.second;
+           })->first;
+  }
+  std::vector<std::uint32_t> antennas;
+  std::vector<double> psi;
+  reduction.reduce(phases, root, antennas, psi);
+  std::map<std::uint32_t, double> antenna_phase;
+  for (std::size_t c = 0; c < antennas.size(); ++c) {
+    if (!std::isnan(psi[c])) antenna_phase[antennas[c]] = psi[c];
+  }
+  std::size_t used = 0;
+  for (const BaselinePhase& p : phases) used += antenna_phase.count(p.a);
+  fit.baseline_rows_used += used;
+  fit.baseline_rows_skipped += phases.size() - used;
+  if (antenna_phase.size() < 2) return;
+  const auto integration = static_cast<std::uint32_t>(fit.integrations.size());
+  fit.integrations.push_back(
+      {1.0 + 2.0 * static_cast<double>(used) / static_cast<double>(antenna_phase.size()),
+       reference_present ? path_mm.at(reference) : std::nan("")});
+  for (const auto& [antenna, phase] : antenna_phase) {
+    fit.antenna_rows.push_back(
+        {phase, k_rad_per_mm, path_mm.at(antenna), antenna, scan, segment, integration});
+  }
 }
+
+// Grid search of the array scale with closed-form offsets: the 1 - cos cost summed over
+// (scan, pair) groups is n - |sum exp(i theta)| at each group's circular-mean offset. Reduced
+// integrations enter as antenna phases against the reference (where it took part).
+class StartSearch {
+ public:
+  struct GroupKey {
+    std::uint32_t scan, a, b;
+  };
+
+  StartSearch(const FitRows& fit, std::size_t antennas, std::uint32_t reference) : fit_(fit) {
+    std::unordered_map<std::uint64_t, std::uint32_t> ids;
+    auto id = [&](std::uint32_t scan, std::uint32_t a, std::uint32_t b) {
+      const std::uint64_t key = (static_cast<std::uint64_t>(scan) * antennas + a) * antennas + b;
+      auto [it, inserted] = ids.emplace(key, static_cast<std::uint32_t>(keys_.size()));
+      if (inserted) keys_.push_back({scan, a, b});
+      return it->second;
+    };
+    row_group_.reserve(fit.rows.size());
+    for (const Row& r : fit.rows) row_group_.push_back(id(r.scan, r.a, r.b));
+    antenna_group_.reserve(fit.antenna_rows.size());
+    for (const AntennaRow& r : fit.antenna_rows) {
+      const bool usable =
+          r.antenna != reference && !std::isnan(fit.integrations[r.integration].reference_path_mm);
+      antenna_group_.push_back(usable ? id(r.scan, reference, r.antenna) : kNoGroup);
+    }
+  }
+
+  // Cost at `scale`; `sums` receives each group's (sum cos, sum sin).
+  double cost(double scale, std::vector<std::pair<double, double>>& sums) const {
+    sums.assign(keys_.size(), {0.0, 0.0});
+    double n = 0.0;
+    for (std::size_t i = 0; i < fit_.rows.size(); ++i) {
+      const Row& r = fit_.rows[i];
+      const double theta = r.phase_rad - r.k_rad_per_mm * scale * (r.path_b_mm - r.path_a_mm);
+      sums[row_group_[i]].first += std::cos(theta);
+      sums[row_group_[i]].second += std::sin(theta);
+      n += 1.0;
+    }
+    for (std::size_t i = 0; i < fit_.antenna_rows.size(); ++i) {
+      if (antenna_group_[i] == kNoGroup) continue;
+      const AntennaRow& r = fit_.antenna_rows[i];
+      const double theta =
+          r.phase_rad -
+          r.k_rad_per_mm * scale * (r.path_mm - fit_.integrations[r.integration].reference_path_mm);
+      sums[antenna_group_[i]].first += std::cos(theta);
+      sums[antenna_group_[i]].second += std::sin(theta);
+      n += 1.0;
+    }
+    double total = n;
+    for (const auto& s : sums) total -= std::hypot(s.first, s.second);
+    return total;
+  }
+
+  // The grid scale (step 0.01) of least cost, the first of equals; grid points over threads.
+  double best_scale(double min_scale, double max_scale, int threads) const {
+    std::vector<double> grid;
+    for (double s = min_scale; s <= max_scale + 1e-12; s += 0.01) grid.push_back(s);
+    std::vector<double> costs(grid.size());
+    detail::parallel_blocks(grid.size(), detail::worker_count(threads, grid.size()),
+                            [&](std::size_t begin, std::size_t end, std::size_t) {
+                              std::vector<std::pair<double, double>> sums;
+                              for (std::size_t g = begin; g < end; ++g)
+                                costs[g] = cost(grid[g], sums);
+                            });
+    double best = 1.0, best_cost = std::numeric_limits<double>::infinity();
+    for (std::size_t g = 0; g < grid.size(); ++g) {
+      if (costs[g] < best_cost) {
+        best_cost = costs[g];
+        best = grid[g];
+      }
+    }
+    return best;
+  }
+
+  const std::vector<GroupKey>& keys() const { return keys_; }
+
+ private:
+  static constexpr std::uint32_t kNoGroup = std::numeric_limits<std::uint32_t>::max();
+  const FitRows& fit_;
+  std::vector<GroupKey> keys_;
+  std::vector<std::uint32_t> row_group_, antenna_group_;
+};
 
 }  // namespace
 
@@ -151,7 +411,7 @@ CalibrationResult solve_scaling(const Night& night,
   result.antenna_scale.assign(na, 1.0);
   result.antenna_scale_sigma.assign(na, 0.0);
 
-  // Calibrator scans and rows.
+  // Calibrator scans and rows, one integration (time and frequency) at a time.
   std::vector<std::size_t> calibrator_scans;
   for (std::size_t s = 0; s < night.scans.size(); ++s) {
     if (night.scans[s].intent == ScanIntent::kCalibrator) calibrator_scans.push_back(s);
@@ -159,98 +419,118 @@ CalibrationResult solve_scaling(const Night& night,
   const CalibratorPhases& cp = night.calibrator_phases;
   const double t0 = paths.time_s.empty() ? 0.0 : paths.time_s.front();
   std::map<double, double> k_cache;
-  std::vector<Row> rows;
+  auto k_at = [&](double freq_ghz) {
+    auto k = k_cache.find(freq_ghz);
+    if (k == k_cache.end()) {
+      const double factor = phase_per_path(freq_ghz);
+      k = k_cache
+              .emplace(freq_ghz,
+                       kTwoPi * freq_ghz * 1e9 / constants::speed_of_light_m_per_s * 1e-3 * factor)
+              .first;
+    }
+    return k->second;
+  };
+  FitRows fit;
+  AntennaPhaseReduction reduction(na);
+  std::map<double, std::vector<BaselinePhase>> by_freq;  // the current integration
   std::size_t scan_cursor = 0;
-  for (std::size_t i = 0; i < cp.time_s.size(); ++i) {
+  std::size_t i = 0;
+  while (i < cp.time_s.size()) {
     const double t = cp.time_s[i];
-    const auto [ia, ib] = cp.antenna_pair[i];
-    bool usable = ia >= 0 && ib >= 0 && static_cast<std::size_t>(ia) < na &&
-                  static_cast<std::size_t>(ib) < na && ia != ib && std::isfinite(cp.phase_rad[i]) &&
-                  cp.freq_ghz[i] > 0.0 && std::isfinite(cp.freq_ghz[i]);
     // The calibrator scan holding t (rows are sorted by time).
     while (scan_cursor < calibrator_scans.size() &&
            night.scans[calibrator_scans[scan_cursor]].stop_s <= t)
       ++scan_cursor;
-    if (scan_cursor >= calibrator_scans.size() ||
-        t < night.scans[calibrator_scans[scan_cursor]].start_s)
-      usable = false;
-    Row row{};
-    if (usable) {
-      bool ok_a = false, ok_b = false;
-      row.a = static_cast<std::size_t>(ia);
-      row.b = static_cast<std::size_t>(ib);
-      row.path_a_mm = interpolate_path(paths, row.a, t, ok_a);
-      row.path_b_mm = interpolate_path(paths, row.b, t, ok_b);
-      usable = ok_a && ok_b;
-    }
-    if (!usable) {
-      ++result.rows_skipped;
-      continue;
-    }
-    auto k = k_cache.find(cp.freq_ghz[i]);
-    if (k == k_cache.end()) {
-      const double factor = phase_per_path(cp.freq_ghz[i]);
-      k = k_cache
-              .emplace(cp.freq_ghz[i], kTwoPi * cp.freq_ghz[i] * 1e9 /
-                                           constants::speed_of_light_m_per_s * 1e-3 * factor)
-              .first;
-    }
-    row.k_rad_per_mm = k->second;
-    row.phase_rad = cp.phase_rad[i];
-    row.scan = scan_cursor;
-    row.segment =
+    const bool in_scan = scan_cursor < calibrator_scans.size() &&
+                         t >= night.scans[calibrator_scans[scan_cursor]].start_s;
+    for (auto& entry : by_freq) entry.second.clear();
+    // Rows of one time; a NaN time is a batch of its own (and unusable: no path at it).
+    do {
+      const auto [ia, ib] = cp.antenna_pair[i];
+      bool usable = in_scan && ia >= 0 && ib >= 0 && static_cast<std::size_t>(ia) < na &&
+                    static_cast<std::size_t>(ib) < na && ia != ib &&
+                    std::isfinite(cp.phase_rad[i]) && cp.freq_ghz[i] > 0.0 &&
+                    std::isfinite(cp.freq_ghz[i]);
+      BaselinePhase p{};
+      if (usable) {
+        bool ok_a = false, ok_b = false;
+        p.a = static_cast<std::uint32_t>(ia);
+        p.b = static_cast<std::uint32_t>(ib);
+        p.path_a_mm = interpolate_path(paths, p.a, t, ok_a);
+        p.path_b_mm = interpolate_path(paths, p.b, t, ok_b);
+        p.phase_rad = cp.phase_rad[i];
+        usable = ok_a && ok_b;
+      }
+      if (usable) {
+        by_freq[cp.freq_ghz[i]].push_back(p);
+      } else {
+        ++fit.baseline_rows_skipped;
+      }
+      ++i;
+    } while (i < cp.time_s.size() && cp.time_s[i] == t);
+    if (!in_scan) continue;
+    const std::size_t segment =
         options.segment_s > 0.0
             ? static_cast<std::size_t>(std::max(0.0, std::floor((t - t0) / options.segment_s)))
             : 0;
-    rows.push_back(row);
+    fit.scans = std::max(fit.scans, scan_cursor + 1);
+    fit.segments = std::max(fit.segments, segment + 1);
+    for (const auto& [freq, phases] : by_freq) {
+      add_integration(phases, k_at(freq), static_cast<std::uint32_t>(scan_cursor),
+                      static_cast<std::uint32_t>(segment), static_cast<std::uint32_t>(ref),
+                      options.form, reduction, fit);
+    }
   }
-  result.rows_used = rows.size();
-  if (rows.empty()) {
+  result.rows_used = fit.baseline_rows_used;
+  result.rows_skipped = fit.baseline_rows_skipped;
+  if (fit.rows.empty() && fit.antenna_rows.empty()) {
     result.message = calibrator_scans.empty() ? "the night has no calibrator scans"
                                               : "no usable calibrator phase rows";
     return result;
   }
 
-  // Grid search of the array scale with closed-form offsets.
-  std::map<std::pair<std::size_t, std::pair<std::size_t, std::size_t>>, std::pair<double, double>>
-      sums;
-  double best_scale = 1.0, best_cost = std::numeric_limits<double>::infinity();
-  for (double s = options.scale_search_min; s <= options.scale_search_max + 1e-12; s += 0.01) {
-    const double cost = closed_form_cost(rows, s, sums);
-    if (cost < best_cost) {
-      best_cost = cost;
-      best_scale = s;
-    }
-  }
-  closed_form_cost(rows, best_scale, sums);
+  // Start values: the array scale from the grid, offsets at their circular means.
+  const StartSearch search(fit, na, static_cast<std::uint32_t>(ref));
+  const double best_scale =
+      search.best_scale(options.scale_search_min, options.scale_search_max, options.threads);
+  std::vector<std::pair<double, double>> sums;
+  search.cost(best_scale, sums);
 
   // Parameters. Only segments holding rows get a scale (a segment shorter than the calibrator
   // cycle can fall entirely within target scans); they are renumbered in time order.
   std::map<std::size_t, std::size_t> segment_index;
-  for (const Row& r : rows) segment_index.emplace(r.segment, 0);
+  for (const Row& r : fit.rows) segment_index.emplace(r.segment, 0);
+  for (const AntennaRow& r : fit.antenna_rows) segment_index.emplace(r.segment, 0);
   std::vector<std::size_t> segment_number;
   for (auto& [number, index] : segment_index) {
     index = segment_number.size();
     segment_number.push_back(number);
   }
-  for (Row& r : rows) r.segment = segment_index.at(r.segment);
+  for (Row& r : fit.rows) r.segment = static_cast<std::uint32_t>(segment_index.at(r.segment));
+  for (AntennaRow& r : fit.antenna_rows)
+    r.segment = static_cast<std::uint32_t>(segment_index.at(r.segment));
   const std::size_t segments = segment_number.size();
   std::vector<double> segment_scale(segments, best_scale);
   std::vector<double> ratio(na, 1.0);
-  std::map<std::pair<std::size_t, std::size_t>, double> offsets;  // (scan, antenna), antenna != ref
+  std::vector<double> offsets(fit.scans * na, 0.0);  // [scan, antenna]; the reference's stay 0
+  for (std::size_t g = 0; g < search.keys().size(); ++g) {
+    const auto& key = search.keys()[g];
+    const double angle = std::atan2(sums[g].second, sums[g].first);
+    if (key.a == ref && key.b != ref) offsets[key.scan * na + key.b] = angle;
+    if (key.b == ref && key.a != ref) offsets[key.scan * na + key.a] = -angle;
+  }
+  // Common phases: the circular mean of each reduced integration's antenna residuals.
+  std::vector<std::pair<double, double>> common_sum(fit.integrations.size(), {0.0, 0.0});
+  for (const AntennaRow& r : fit.antenna_rows) {
+    const double theta = r.phase_rad - r.k_rad_per_mm * best_scale * r.path_mm -
+                         (r.antenna == ref ? 0.0 : offsets[r.scan * na + r.antenna]);
+    common_sum[r.integration].first += std::cos(theta);
+    common_sum[r.integration].second += std::sin(theta);
+  }
+  std::vector<double> common(fit.integrations.size());
+  for (std::size_t n = 0; n < common.size(); ++n)
+    common[n] = std::atan2(common_sum[n].second, common_sum[n].first);
   double zero = 0.0;
-  for (const Row& r : rows) {
-    for (std::size_t ant : {r.a, r.b}) {
-      if (ant != ref) offsets.emplace(std::make_pair(r.scan, ant), 0.0);
-    }
-  }
-  for (const auto& [key, s] : sums) {
-    const auto& [scan, pair] = key;
-    if (pair.first == ref && pair.second != ref)
-      offsets[{scan, pair.second}] = std::atan2(s.second, s.first);
-    if (pair.second == ref && pair.first != ref)
-      offsets[{scan, pair.first}] = -std::atan2(s.second, s.first);
-  }
 
   // Each row is one phase: fewer rows than free parameters (a scale per segment, an offset per
   // calibrator scan and antenna) leave the solve undetermined, and its zero residual would read
@@ -266,16 +546,31 @@ CalibrationResult solve_scaling(const Night& night,
 
   ceres::Problem problem;
   ceres::LossFunction* loss = new ceres::CauchyLoss(options.loss_scale);
+  std::map<double, ceres::LossFunction*> weighted_loss;
   auto offset_block = [&](std::size_t scan, std::size_t ant) -> double* {
-    return ant == ref ? &zero : &offsets.at({scan, ant});
+    return ant == ref ? &zero : &offsets[scan * na + ant];
   };
-  for (const Row& r : rows) {
+  for (const Row& r : fit.rows) {
     auto* cost =
         new ceres::AutoDiffCostFunction<PhaseResidual, 2, 1, 1, 1, 1, 1>(new PhaseResidual(r));
     problem.AddResidualBlock(cost, loss, &segment_scale[r.segment], &ratio[r.a], &ratio[r.b],
                              offset_block(r.scan, r.a), offset_block(r.scan, r.b));
   }
-  problem.SetParameterBlockConstant(&zero);
+  for (const AntennaRow& r : fit.antenna_rows) {
+    // Each antenna row stands for `weight` baselines' worth of the cost (see the header).
+    ceres::LossFunction*& weighted = weighted_loss[fit.integrations[r.integration].weight];
+    if (weighted == nullptr) {
+      weighted =
+          new ceres::ScaledLoss(new ceres::CauchyLoss(options.loss_scale),
+                                fit.integrations[r.integration].weight, ceres::TAKE_OWNERSHIP);
+    }
+    auto* cost = new ceres::AutoDiffCostFunction<AntennaPhaseResidual, 2, 1, 1, 1, 1>(
+        new AntennaPhaseResidual(r));
+    problem.AddResidualBlock(cost, weighted, &segment_scale[r.segment], &ratio[r.antenna],
+                             offset_block(r.scan, r.antenna), &common[r.integration]);
+  }
+  if (problem.HasParameterBlock(&zero)) problem.SetParameterBlockConstant(&zero);
+  if (fit.rows.empty()) delete loss;  // no residual block took ownership of it
   for (std::size_t a = 0; a < na; ++a) {
     if (!problem.HasParameterBlock(&ratio[a])) continue;
     if (options.per_antenna_scale) {
@@ -286,11 +581,12 @@ CalibrationResult solve_scaling(const Night& night,
       problem.SetParameterBlockConstant(&ratio[a]);
     }
   }
+  const int threads = static_cast<int>(detail::worker_count(options.threads, 64));
   ceres::Solver::Options solver_options;
   solver_options.linear_solver_type = ceres::SPARSE_NORMAL_CHOLESKY;
   solver_options.max_num_iterations = options.max_iterations;
   solver_options.logging_type = ceres::SILENT;
-  solver_options.num_threads = 2;
+  solver_options.num_threads = threads;
   solver_options.function_tolerance = 1e-10;
   solver_options.parameter_tolerance = 1e-10;
   ceres::Solver::Summary summary;
@@ -308,10 +604,10 @@ CalibrationResult solve_scaling(const Night& night,
     return result;
   }
 
-  // Uncertainties of the scale blocks, offsets marginalised.
+  // Uncertainties of the scale blocks, offsets and common phases marginalised.
   ceres::Covariance::Options covariance_options;
   covariance_options.algorithm_type = ceres::SPARSE_QR;
-  covariance_options.num_threads = 2;
+  covariance_options.num_threads = threads;
   ceres::Covariance covariance(covariance_options);
   std::vector<std::pair<const double*, const double*>> blocks;
   for (double& s : segment_scale) blocks.emplace_back(&s, &s);

@@ -123,6 +123,8 @@ std::string site_processing_key(const SiteConfig& site) {
 
 std::string calibration_processing_key(const CalibrationOptions& o) {
   return KeyText()
+      .add("form",
+           o.form == ScalingSolveForm::kAntennaPhases ? "antenna phases" : "baseline phases")
       .add("per_antenna_scale", o.per_antenna_scale)
       .add("antenna_scale_prior_sigma", o.antenna_scale_prior_sigma)
       .add("segment_s", o.segment_s)
@@ -181,8 +183,8 @@ NightProcessingResult process_night(const Night& night, const NightProcessingOpt
         calibration_from_result_group(*stored_calibration, night.antenna_count(), "night");
     r.calibration_reused = true;
   } else {
-    const CalibrationOptions calibration_options =
-        options.calibration.value_or(CalibrationOptions{});
+    CalibrationOptions calibration_options = options.calibration.value_or(CalibrationOptions{});
+    calibration_options.threads = options.threads;
     r.calibration = solve_scaling(night, r.paths, r.phase_per_path, calibration_options);
     r.result_groups.push_back(calibration_result_group(*r.calibration));
     with_keys(r.result_groups.back(), calibration_processing_key(calibration_options));

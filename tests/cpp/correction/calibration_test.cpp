@@ -330,3 +330,46 @@ TEST(Calibration, PerAntennaScalesStayNearTheArrayScale) {
 
 }  // namespace
 }  // namespace wvr
+
+namespace wvr {
+namespace {
+
+// The antenna-phase form against the baseline form on the same nights: with every baseline
+// stored (redundant, reduced to antenna phases first) and with reference baselines only (fitted
+// as they are in both forms).
+TEST(Calibration, AntennaPhaseSolveEqualsTheBaselineSolve) {
+  for (const double obs_freq_ghz : {230.0, 650.0}) {
+    for (const bool all_baselines : {true, false}) {
+      Solved s;
+      s.scenario = parse_scenario(night_text(obs_freq_ghz, ""), "test.toml", test::testdata(""));
+      s.scenario.observing.all_baselines = all_baselines;
+      s.night = simulate_night(s.scenario);
+      s.retrieval = retrieve_night(s.night, s.scenario.site.parameters);
+      s.coefficients = CoefficientWindows::from_retrieval(s.retrieval);
+      s.paths = compute_wvr_paths(s.night, s.coefficients);
+      s.factor = site_phase_per_path(s.scenario.site.parameters);
+      CalibrationOptions by_baseline;
+      by_baseline.form = ScalingSolveForm::kBaselinePhases;
+      const CalibrationResult baseline = solve_scaling(s.night, s.paths, s.factor, by_baseline);
+      const CalibrationResult antenna = solve_scaling(s.night, s.paths, s.factor);
+      ASSERT_TRUE(baseline.ok()) << baseline.brief_report();
+      ASSERT_TRUE(antenna.ok()) << antenna.brief_report();
+      const std::string where =
+          std::to_string(obs_freq_ghz) +
+          (all_baselines ? " GHz, all baselines" : " GHz, reference baselines");
+      EXPECT_EQ(antenna.rows_used, baseline.rows_used) << where;
+      if (all_baselines) {
+        EXPECT_NEAR(antenna.scale, baseline.scale, 0.1 * baseline.scale_sigma) << where;
+        EXPECT_NEAR(antenna.scale_sigma / baseline.scale_sigma, 1.0, 0.2) << where;
+      } else {
+        EXPECT_NEAR(antenna.scale, baseline.scale, 1e-9) << where;
+        EXPECT_NEAR(antenna.scale_sigma, baseline.scale_sigma, 1e-9) << where;
+      }
+      std::cout << where << ": baseline form " << baseline.brief_report() << "\n  antenna form "
+                << antenna.brief_report() << "\n";
+    }
+  }
+}
+
+}  // namespace
+}  // namespace wvr
