@@ -83,13 +83,14 @@ def _subtable(ms, name, rows):
 
 def write_ms(night_path, ms, *, clock_offset_s=0.0, pointing="azel", weather=True,
              drop_autocorrelations=(), flag_radiometer_rows=(), radiometer_window=True,
-             extra_science_windows=(), float_data=False, target_rows=True):
+             extra_science_windows=(), float_data=False, target_rows=True, duration_s=None):
     """Writes `ms` from the night file. Options make the awkward archives of the tests:
     clock_offset_s adds to the radiometer rows' TIME; pointing "azel" stores the night's
     azimuth/elevation in POINTING, "none" leaves POINTING empty (FIELD directions only);
     drop_autocorrelations lists antenna indices without radiometer rows; flag_radiometer_rows
     lists (antenna, time index) samples written with FLAG_ROW; extra_science_windows adds
-    spectral windows (frequencies in GHz, one channel each) with calibrator rows of their own."""
+    spectral windows (frequencies in GHz, one channel each) with calibrator rows of their own;
+    duration_s keeps only the main-table rows of the night's first duration_s seconds."""
     n = read_night(night_path)
     na, nt = len(n["names"]), len(n["time_s"])
     nc = len(n["if_ghz"])
@@ -187,6 +188,8 @@ def write_ms(night_path, ms, *, clock_offset_s=0.0, pointing="azel", weather=Tru
             for time_s in n["time_s"][(n["time_s"] >= n["scan_start"][s]) & (n["time_s"] < n["scan_stop"][s])]:
                 rows.append((time_s, 0, 1, 0, s, np.ones((1, 2), dtype=np.complex64), False))
 
+    if duration_s is not None:
+        rows = [r for r in rows if r[0] - clock_offset_s * (r[1] == r[2]) < n["time_s"][0] + duration_s]
     main = ct.table(ms, readonly=False, ack=False)
     if float_data:
         main.addcols(ct.maketabdesc(ct.makearrcoldesc("FLOAT_DATA", 0.0, ndim=2, valuetype="float")))
@@ -207,14 +210,20 @@ def write_ms(night_path, ms, *, clock_offset_s=0.0, pointing="azel", weather=Tru
                                      dtype=np.int32))
     main.putcol("FLAG_ROW", np.array([r[6] for r in rows]))
     data_column = "FLOAT_DATA" if float_data else "DATA"
-    for i, r in enumerate(rows):
-        values = r[5].real.astype(np.float32) if (float_data and r[3] == radiometer_dd) else r[5]
-        if float_data and r[3] != radiometer_dd:
-            values = np.abs(r[5]).astype(np.float32)
-        main.putcell(data_column, i, values)
-        main.putcell("FLAG", i, np.zeros(r[5].shape, dtype=bool))
-        main.putcell("WEIGHT", i, np.ones(r[5].shape[1], dtype=np.float32))
-        main.putcell("SIGMA", i, np.ones(r[5].shape[1], dtype=np.float32))
+    start = 0
+    while start < len(rows):  # blocks of rows with one cell shape, written at once
+        stop = start
+        while stop < len(rows) and rows[stop][5].shape == rows[start][5].shape:
+            stop += 1
+        block = np.stack([r[5] for r in rows[start:stop]])
+        if float_data:
+            block = block.real.astype(np.float32)
+        main.putcol(data_column, block, startrow=start, nrow=stop - start)
+        main.putcol("FLAG", np.zeros(block.shape, dtype=bool), startrow=start, nrow=stop - start)
+        weights = np.ones((stop - start, block.shape[2]), dtype=np.float32)
+        main.putcol("WEIGHT", weights, startrow=start, nrow=stop - start)
+        main.putcol("SIGMA", weights, startrow=start, nrow=stop - start)
+        start = stop
     main.close()
 
     if pointing == "azel":
@@ -254,4 +263,5 @@ def write_ms(night_path, ms, *, clock_offset_s=0.0, pointing="azel", weather=Tru
 
 
 if __name__ == "__main__":
-    write_ms(sys.argv[1], sys.argv[2])
+    # ms_writer.py NIGHT.h5 OUT.ms [DURATION_S]
+    write_ms(sys.argv[1], sys.argv[2], duration_s=float(sys.argv[3]) if len(sys.argv) > 3 else None)
