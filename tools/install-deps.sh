@@ -7,6 +7,9 @@ packages=(
   libgtest-dev libbenchmark-dev
   pybind11-dev python3-dev python3-numpy python3-pytest python3-h5py python3-matplotlib
   python3-distributed python3-tqdm python3-venv python3-setuptools python3-wheel python3-pip
+  # MeasurementSets (optional component): casacore, its taql tools, python-casacore for the
+  # tests' independent writer, and the leap-second table its measures need.
+  casacore-dev casacore-tools python3-casacore casacore-data-tai-utc
 )
 missing=()
 for p in "${packages[@]}"; do

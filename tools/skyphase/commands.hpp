@@ -17,5 +17,8 @@ void add_diagnose_command(CLI::App& app);
 void add_process_command(CLI::App& app);
 void add_report_command(CLI::App& app);
 void add_survey_command(CLI::App& app);
+// MeasurementSet commands, built when casacore is found (WVR_HAVE_ARCHIVE).
+void add_import_command(CLI::App& app);
+void add_export_command(CLI::App& app);
 
 }  // namespace skyphase

@@ -25,6 +25,10 @@ int main(int argc, char** argv) {
   skyphase::add_process_command(app);
   skyphase::add_report_command(app);
   skyphase::add_survey_command(app);
+#ifdef WVR_HAVE_ARCHIVE
+  skyphase::add_import_command(app);
+  skyphase::add_export_command(app);
+#endif
   try {
     app.parse(argc, argv);
   } catch (const CLI::CallForHelp& e) {

@@ -279,3 +279,12 @@ __all__ = [
     "vapour_pressure_hpa",
     "write_night",
 ]
+
+# MeasurementSet import and export: present when libwvr was built with casacore.
+try:
+    from wvr._archive import estimate_clock_offsets, export_measurement_set, import_measurement_set
+except ImportError:
+    HAS_MEASUREMENT_SETS = False
+else:
+    HAS_MEASUREMENT_SETS = True
+    __all__ += ["estimate_clock_offsets", "export_measurement_set", "import_measurement_set"]

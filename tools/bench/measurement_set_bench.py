@@ -1,0 +1,160 @@
+"""Benchmark of MeasurementSet import and export (reports numbers; checks nothing).
+
+Writes (python-casacore) a one-hour MS of 64 antennas: a 4-channel radiometer window sampled
+every second as autocorrelations, and 4 science windows of 64 channels (one correlation) with
+all 2016 baselines every `integration_s`; then times, each in its own process with its peak
+resident memory (wait4): `skyphase import`, `skyphase export` of a night carrying a correction,
+and casacore's `taql` copying the DATA column into a new table (the same bytes the export copies
+and writes again). --scale 4 shortens the integration 4x (4x the visibility rows and bytes).
+
+    /usr/bin/python3 tools/bench/measurement_set_bench.py WORKDIR [--scale 4] [--skyphase PATH]
+"""
+import argparse
+import json
+import os
+import pathlib
+import shutil
+import subprocess
+import sys
+import time
+
+import numpy as np
+from casacore import tables as ct
+
+sys.path.insert(0, str(pathlib.Path(__file__).resolve().parents[2] / "tests" / "python"))
+import ms_writer  # noqa: E402
+
+ANTENNAS, HOURS_S, WINDOWS, CHANNELS = 64, 3600.0, 4, 64
+EPOCH_MJD_S = 61000.0 * 86400.0 + 3600.0
+
+
+def run(command):
+    start = time.perf_counter()
+    process = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+    _, status, usage = os.wait4(process.pid, 0)
+    elapsed = time.perf_counter() - start
+    process.returncode = os.waitstatus_to_exitcode(status)
+    out, err = process.stdout.read().decode(), process.stderr.read().decode()
+    if process.returncode != 0:
+        raise SystemExit(f"{command[0]} failed: {err}")
+    return {"seconds": round(elapsed, 2), "peak_rss_mb": round(usage.ru_maxrss / 1024, 1)}
+
+
+def write_ms(path, integration_s, rng):
+    ct.default_ms(str(path)).close()
+    enu = np.column_stack([rng.uniform(-2000, 2000, ANTENNAS), rng.uniform(-2000, 2000, ANTENNAS),
+                           rng.uniform(-5, 5, ANTENNAS)])
+    with ct.table(f"{path}/ANTENNA", readonly=False, ack=False) as t:
+        t.addrows(ANTENNAS)
+        t.putcol("NAME", [f"A{i:02d}" for i in range(ANTENNAS)])
+        t.putcol("POSITION", ms_writer.itrf_from_enu(enu, -24.0, -67.0, 4850.0))
+    with ct.table(f"{path}/SPECTRAL_WINDOW", readonly=False, ack=False) as t:
+        t.addrows(WINDOWS + 1)
+        for w in range(WINDOWS):
+            t.putcell("NAME", w, f"science-{w}")
+            t.putcell("CHAN_FREQ", w, (230.0 + 2.0 * w + 0.0156 * np.arange(CHANNELS)) * 1e9)
+            t.putcell("CHAN_WIDTH", w, np.full(CHANNELS, 0.0156e9))
+            t.putcell("NUM_CHAN", w, CHANNELS)
+        t.putcell("NAME", WINDOWS, "radiometer")
+        t.putcell("CHAN_FREQ", WINDOWS, (183.31 + np.array([1.1, 2.7, 4.9, 7.6])) * 1e9)
+        t.putcell("CHAN_WIDTH", WINDOWS, np.array([0.4, 0.9, 1.6, 2.4]) * 1e9)
+        t.putcell("NUM_CHAN", WINDOWS, 4)
+    with ct.table(f"{path}/POLARIZATION", readonly=False, ack=False) as t:
+        t.addrows(1)
+        t.putcell("NUM_CORR", 0, 1)
+        t.putcell("CORR_TYPE", 0, np.array([9], dtype=np.int32))
+        t.putcell("CORR_PRODUCT", 0, np.array([[0, 0]], dtype=np.int32))
+    with ct.table(f"{path}/DATA_DESCRIPTION", readonly=False, ack=False) as t:
+        t.addrows(WINDOWS + 1)
+        t.putcol("SPECTRAL_WINDOW_ID", np.arange(WINDOWS + 1, dtype=np.int32))
+        t.putcol("POLARIZATION_ID", np.zeros(WINDOWS + 1, dtype=np.int32))
+    with ct.table(f"{path}/FIELD", readonly=False, ack=False) as t:
+        t.addrows(2)
+        t.putcol("NAME", ["cal", "target"])
+        for i in range(2):
+            t.putcell("PHASE_DIR", i, np.array([[1.0 + 0.2 * i, -0.5]]))
+    with ct.table(f"{path}/STATE", readonly=False, ack=False) as t:
+        t.addrows(2)
+        t.putcol("OBS_MODE", ["CALIBRATE_PHASE#ON_SOURCE", "OBSERVE_TARGET#ON_SOURCE"])
+
+    def scan_of(t):  # 5-minute cycles: 1 minute calibrator, 4 minutes target
+        return (t // 300).astype(np.int32), np.where(t % 300 < 60, 0, 1).astype(np.int32)
+
+    main = ct.table(str(path), readonly=False, ack=False)
+    main.addcols(ct.maketabdesc(ct.makearrcoldesc("DATA", 0j, ndim=2, valuetype="complex")))
+
+    def append(time_s, a1, a2, dd, data):
+        n = len(time_s)
+        start = main.nrows()
+        main.addrows(n)
+        scan, state = scan_of(time_s)
+        for column, values in (("TIME", EPOCH_MJD_S + time_s), ("INTERVAL", np.ones(n)),
+                               ("ANTENNA1", a1), ("ANTENNA2", a2), ("DATA_DESC_ID", dd),
+                               ("SCAN_NUMBER", scan + 1), ("FIELD_ID", state), ("STATE_ID", state),
+                               ("FLAG_ROW", np.zeros(n, dtype=bool)), ("DATA", data),
+                               ("FLAG", np.zeros(data.shape, dtype=bool)),
+                               ("WEIGHT", np.ones((n, 1), dtype=np.float32)),
+                               ("SIGMA", np.ones((n, 1), dtype=np.float32))):
+            main.putcol(column, values, startrow=start, nrow=n)
+
+    seconds = np.arange(HOURS_S)
+    t = np.repeat(seconds, ANTENNAS)
+    a = np.tile(np.arange(ANTENNAS, dtype=np.int32), len(seconds))
+    tb = 40.0 + rng.normal(0, 0.1, (len(t), 4, 1))
+    append(t, a, a, np.full(len(t), WINDOWS, dtype=np.int32), tb.astype(np.complex64))
+    a1, a2 = np.triu_indices(ANTENNAS, 1)
+    nb = len(a1)
+    for t0 in np.arange(0.0, HOURS_S, integration_s):
+        n = nb * WINDOWS
+        phase = rng.uniform(-np.pi, np.pi, (n, 1, 1))
+        data = np.broadcast_to(np.exp(1j * phase), (n, CHANNELS, 1)).astype(np.complex64)
+        append(np.full(n, t0 + 0.5 * integration_s), np.tile(a1, WINDOWS).astype(np.int32),
+               np.tile(a2, WINDOWS).astype(np.int32),
+               np.repeat(np.arange(WINDOWS, dtype=np.int32), nb), data)
+    rows = main.nrows()
+    main.close()
+    return rows
+
+
+def main():
+    parser = argparse.ArgumentParser()
+    parser.add_argument("workdir", type=pathlib.Path)
+    parser.add_argument("--scale", type=int, default=1)
+    parser.add_argument("--integration-s", type=float, default=30.0)
+    parser.add_argument("--skyphase", default=str(pathlib.Path(__file__).resolve().parents[2] /
+                                                 "build" / "tools" / "skyphase"))
+    args = parser.parse_args()
+    import wvr
+    work = args.workdir
+    work.mkdir(parents=True, exist_ok=True)
+    ms = work / f"bench-x{args.scale}.ms"
+    for p in (ms, work / "copy.ms", work / "corrected.ms"):
+        shutil.rmtree(p, ignore_errors=True)
+    start = time.perf_counter()
+    rows = write_ms(ms, args.integration_s / args.scale, np.random.default_rng(1))
+    report = {"scale": args.scale, "rows": rows, "write_seconds": round(time.perf_counter() - start, 1),
+              "ms_mb": round(sum(f.stat().st_size for f in ms.rglob("*") if f.is_file()) / 2**20, 1)}
+    night = work / "bench-night.h5"
+    report["import"] = run([args.skyphase, "import", str(ms), "-o", str(night), "--brightness",
+                            "rayleigh-jeans", "--overwrite"])
+    n = wvr.read_night(night)
+    rng = np.random.default_rng(2)
+    group = wvr.ResultGroup("correction", {
+        "time_s": (n.time_s, "s"),
+        "phase_correction_rad": (rng.normal(0, 0.3, (n.antenna_count, n.time_count)), "rad"),
+        "flags": (np.zeros((n.antenna_count, n.time_count), dtype=np.uint8), "1")},
+        {"obs_freq_ghz": "230.0"})
+    corrected = work / "bench-corrected.h5"
+    wvr.write_night(n.with_result_group(group), corrected, overwrite=True)
+    report["export"] = run([args.skyphase, "export", str(corrected), "--ms", str(ms), "-o",
+                            str(work / "corrected.ms"), "--site",
+                            str(pathlib.Path(__file__).resolve().parents[2] / "testdata" / "sites" /
+                                "demo-site.toml")])
+    report["taql_copy_data"] = run(["taql", f"select DATA from {ms} giving {work / 'copy.ms'} as plain"])
+    report["export_over_taql"] = round(report["export"]["seconds"] /
+                                       report["taql_copy_data"]["seconds"], 2)
+    print(json.dumps(report, indent=2))
+
+
+if __name__ == "__main__":
+    main()
