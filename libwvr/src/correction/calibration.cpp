@@ -535,10 +535,11 @@ CalibrationResult solve_scaling(const Night& night,
   // Each row is one phase: fewer rows than free parameters (a scale per segment, an offset per
   // calibrator scan and antenna) leave the solve undetermined, and its zero residual would read
   // as a perfect fit.
-  const std::size_t free_parameters = segments + offsets.size();
-  if (rows.size() <= free_parameters) {
-    result.message = std::to_string(rows.size()) +
-                     " usable calibrator phase rows cannot determine " +
+  // (Reduced integrations add a common phase each.)
+  const std::size_t free_parameters = segments + offsets.size() + fit.integrations.size();
+  const std::size_t row_count = fit.rows.size() + fit.antenna_rows.size();
+  if (row_count <= free_parameters) {
+    result.message = std::to_string(row_count) + " usable calibrator phase rows cannot determine " +
                      std::to_string(free_parameters) +
                      " parameters (a scale per segment, a phase offset per scan and antenna)";
     return result;
