@@ -16,5 +16,6 @@ void add_correct_command(CLI::App& app);
 void add_diagnose_command(CLI::App& app);
 void add_process_command(CLI::App& app);
 void add_report_command(CLI::App& app);
+void add_crosscal_command(CLI::App& app);
 
 }  // namespace skyphase

@@ -24,6 +24,7 @@ int main(int argc, char** argv) {
   skyphase::add_diagnose_command(app);
   skyphase::add_process_command(app);
   skyphase::add_report_command(app);
+  skyphase::add_crosscal_command(app);
   try {
     app.parse(argc, argv);
   } catch (const CLI::CallForHelp& e) {

@@ -1364,3 +1364,16 @@ def process_night(
 
 def load_diagnosis_thresholds(path: PathLike) -> DiagnosisThresholds: ...
 def describe_antenna_faults(faults: int) -> str: ...
+
+# --- radiometer cross-calibration -----------------------------------------------------------
+
+def cross_calibrate(
+    night: Night,
+    *,
+    block_s: float = 60.0,  # s
+    offset_limit_k: float = 1.5,  # K
+    gain_limit: float = 0.03,
+    min_drift_k: float = 0.2,  # K
+    apply: bool = False,
+    include_drift: bool = False,
+) -> Dict[str, Any]: ...  # offset_k, gain [A, C] relative to the array, ..., flagged_units, night
