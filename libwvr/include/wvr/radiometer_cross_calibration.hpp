@@ -136,8 +136,9 @@ CrossCalibration cross_calibrate(const Night& night, const CrossCalibrationOptio
 // A copy of the night with each unit's brightness mapped onto the array's scale:
 // T' = (T - o(t)) / g(t), with o(t) = o + do tau and g(t) = g + dg tau for the drifting units
 // when `include_drift` (their drift is part of their solve), otherwise the constant o and g
-// (the drift of a unit that does not drift is noise, and poorly separated from o and g). Unsolved channels are left alone; the truth and results are
-// kept. Throws InvalidInput when the calibration does not match the night's shape.
+// (the drift of a unit that does not drift is noise, and poorly separated from o and g). Unsolved
+// channels are left alone; the truth and results are kept. Throws InvalidInput when the calibration
+// does not match the night's shape.
 Night apply_cross_calibration(const Night& night,
                               const CrossCalibration& calibration,
                               bool include_drift = false);
