@@ -20,5 +20,6 @@ void add_survey_command(CLI::App& app);
 // MeasurementSet commands, built when casacore is found (WVR_HAVE_ARCHIVE).
 void add_import_command(CLI::App& app);
 void add_export_command(CLI::App& app);
+void add_crosscal_command(CLI::App& app);
 
 }  // namespace skyphase

@@ -29,6 +29,7 @@ int main(int argc, char** argv) {
   skyphase::add_import_command(app);
   skyphase::add_export_command(app);
 #endif
+  skyphase::add_crosscal_command(app);
   try {
     app.parse(argc, argv);
   } catch (const CLI::CallForHelp& e) {

@@ -41,6 +41,7 @@ void export_retrieval(py::module_& m);
 void export_correction(py::module_& m);
 void export_night_processing(py::module_& m);
 void export_streaming(py::module_& m);
+void export_radiometer_cross_calibration(py::module_& m);
 
 // C-contiguous float64 arrays, converted from any array-like (lists, scalars, integer arrays).
 using DoubleArray = py::array_t<double, py::array::c_style | py::array::forcecast>;

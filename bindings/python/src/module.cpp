@@ -27,4 +27,5 @@ PYBIND11_MODULE(_core, m) {
   wp::export_night_processing(m);
   wp::export_correction(m);
   wp::export_streaming(m);
+  wp::export_radiometer_cross_calibration(m);
 }

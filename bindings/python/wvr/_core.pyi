@@ -1434,3 +1434,15 @@ class StreamingCorrector:
         brightness_k: ArrayLike,  # K, [time, antenna, channel]
         valid: Optional[ArrayLike] = None,  # [time, antenna] 0/1
     ) -> CorrectorOutput: ...
+# --- radiometer cross-calibration -----------------------------------------------------------
+
+def cross_calibrate(
+    night: Night,
+    *,
+    block_s: float = 60.0,  # s
+    offset_limit_k: float = 1.5,  # K
+    gain_limit: float = 0.03,
+    min_drift_k: float = 0.2,  # K
+    apply: bool = False,
+    include_drift: bool = False,
+) -> Dict[str, Any]: ...  # offset_k, gain [A, C] relative to the array, ..., flagged_units, night
