@@ -108,7 +108,8 @@ void add_simulate_command(CLI::App& app) {
   cmd->add_option("-o,--output", options->output_file, "Night file to write (HDF5)")->required();
   cmd->add_option("--seed", options->seed, "Override the scenario's random seed");
   cmd->add_option("--threads", options->threads, "Worker threads (0 = all cores)")
-      ->capture_default_str();
+      ->capture_default_str()
+      ->check(CLI::Range(0, 1024));
   cmd->add_flag("--overwrite", options->overwrite, "Replace an existing output file");
   add_format_option(*cmd, options->format);
   cmd->callback([options] { run_simulate(*options); });

@@ -1,5 +1,6 @@
 #include "pipeline.hpp"
 
+#include <cmath>
 #include <iostream>
 
 #include "wvr/night_file.hpp"
@@ -24,9 +25,30 @@ void add_common(CLI::App& cmd, CommonOptions& o) {
   add_format_option(cmd, o.format);
 }
 
+namespace {
+
+// A finite number above `minimum` (or equal to it when `inclusive`): CLI11's own range checks
+// let NaN through.
+CLI::Validator finite_at_least(double minimum, bool inclusive) {
+  return CLI::Validator(
+      [minimum, inclusive](std::string& text) -> std::string {
+        double value = 0.0;
+        if (!CLI::detail::lexical_cast(text, value)) return "'" + text + "' is not a number";
+        if (!std::isfinite(value) || value < minimum || (!inclusive && value == minimum)) {
+          return text + " is not a finite number " + (inclusive ? ">= " : "> ") +
+                 CLI::detail::to_string(minimum);
+        }
+        return {};
+      },
+      std::string(inclusive ? "NUMBER >= " : "NUMBER > ") + CLI::detail::to_string(minimum));
+}
+
+}  // namespace
+
 void add_frequency_option(CLI::App& cmd, CommonOptions& o) {
   cmd.add_option("--obs-freq-ghz", o.obs_freq_ghz,
-                 "Observing frequency of the corrections (default: the night's scans)");
+                 "Observing frequency of the corrections (default: the night's scans)")
+      ->check(finite_at_least(0.0, false));
 }
 
 void add_diagnosis_options(CLI::App& cmd, CommonOptions& o) {
@@ -35,13 +57,16 @@ void add_diagnosis_options(CLI::App& cmd, CommonOptions& o) {
       ->check(CLI::ExistingFile);
   cmd.add_option("--advice-layer-height-m", o.advice_layer_height_m,
                  "Turbulent layer height for fast-switching advice (m)")
-      ->capture_default_str();
+      ->capture_default_str()
+      ->check(finite_at_least(0.0, false));
   cmd.add_option("--advice-separation-deg", o.advice_separation_deg,
                  "Calibrator-target separation for the advice (deg)")
-      ->capture_default_str();
+      ->capture_default_str()
+      ->check(finite_at_least(0.0, true));
   cmd.add_option("--advice-target-rms-deg", o.advice_target_rms_deg,
                  "Residual phase rms the advice aims at (deg)")
-      ->capture_default_str();
+      ->capture_default_str()
+      ->check(finite_at_least(0.0, false));
 }
 
 wvr::NightProcessingOptions processing_options(const CommonOptions& o,
