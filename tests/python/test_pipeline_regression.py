@@ -91,10 +91,22 @@ def test_diagnosis_numbers_and_wind_are_unchanged(chain):
     summary = dict(expected["summary"])
     counts = summary.pop("verdict_counts")
     close(got["summary"], summary, "diagnose.summary")
-    close(got["wind_speed_m_s"], expected["wind_speed_m_s"], "wind_speed_m_s")
-    close(got["wind_direction_deg"], expected["wind_direction_deg"], "wind_direction_deg")
-    close(got["structure_function"]["radiometer"]["slab"]["thickness_m"], expected["slab_thickness_m"],
-          "slab thickness")
+    wind_speed = got["wind_speed_m_s"]
+    wind_direction = got["wind_direction_deg"]
+    thickness = got["structure_function"]["radiometer"]["slab"]["thickness_m"]
+    if not INTENDED_VERDICT_CHANGES:
+        close(wind_speed, expected["wind_speed_m_s"], "wind_speed_m_s")
+        close(wind_direction, expected["wind_direction_deg"], "wind_direction_deg")
+        close(thickness, expected["slab_thickness_m"], "slab thickness")
+    else:
+        # The wind and the structure functions leave out cloudy windows and flagged antennas'
+        # windows, so the intended verdict changes move them a little (measured: wind speed
+        # 7.6608 -> 7.6563 m/s, about one formal sigma). Bounds: five times the wind estimate's
+        # formal 1-sigma on this night (0.0041 m/s, 0.14 deg, from the recorded run) and the
+        # slab fit's jackknife spread on the demo night (sigma ln W = 0.20).
+        assert abs(wind_speed - expected["wind_speed_m_s"]) < 0.02
+        assert abs(wind_direction - expected["wind_direction_deg"]) < 0.7
+        assert abs(math.log(thickness / expected["slab_thickness_m"])) < 0.2
     verdicts = {w["start_s"]: (w["verdict"], w["inherited"]) for w in got["windows"]}
     for start_s, verdict, inherited in expected["verdicts"]:
         want = INTENDED_VERDICT_CHANGES.get(start_s, (verdict, inherited))
