@@ -317,15 +317,15 @@ void export_correction_types(py::module_& m) {
       .def_readonly("coherence_after", &CorrectionMetrics::coherence_after)
       .def_readonly("improvement_factor", &CorrectionMetrics::improvement_factor)
       .def_property_readonly("antenna_phase_rms_before_deg",
-                             [](const CorrectionMetrics& m) {
+                             [](const CorrectionMetrics& metrics) {
                                std::vector<double> v;
-                               for (const AntennaMetrics& a : m.antennas)
+                               for (const AntennaMetrics& a : metrics.antennas)
                                  v.push_back(a.rms_before_deg);
                                return read_only_array(v);
                              })
-      .def_property_readonly("antenna_phase_rms_after_deg", [](const CorrectionMetrics& m) {
+      .def_property_readonly("antenna_phase_rms_after_deg", [](const CorrectionMetrics& metrics) {
         std::vector<double> v;
-        for (const AntennaMetrics& a : m.antennas) v.push_back(a.rms_after_deg);
+        for (const AntennaMetrics& a : metrics.antennas) v.push_back(a.rms_after_deg);
         return read_only_array(v);
       });
   py::class_<PhaseCorrections>(m, "PhaseCorrections",

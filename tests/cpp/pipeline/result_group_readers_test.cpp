@@ -53,7 +53,8 @@ TEST(ResultGroupReaders, TheGroupsOfAProcessedNightReadBack) {
   EXPECT_EQ(cal.antenna_scale, r.calibration->antenna_scale);
 
   ResultGroup broken = *diagnosis;
-  std::erase_if(broken.datasets, [](const ResultDataset& d) { return d.name == "antenna_faults"; });
+  std::erase_if(broken.datasets,
+                [](const ResultDataset& dataset) { return dataset.name == "antenna_faults"; });
   try {
     diagnosis_from_result_group(broken, night.array.antenna_names, "night.h5");
     ADD_FAILURE() << "a group without antenna_faults was read";
