@@ -1,6 +1,6 @@
-// The compiled-in spectroscopic tables of ITU-R P.676-13 Annex 1 against the transcription in
-// testdata/reference/itu-r-p676-13/ (Tables 1 and 2 as in ITU-Rpy commit 6d7f35c3, checked
-// against crc-covlib; README of that folder).
+// The line tables built into the absorption model equal ITU-R P.676-13 Annex 1, Tables 1 and 2,
+// as given in testdata/reference/itu-r-p676-13/ (ITU-Rpy commit 6d7f35c3; provenance in the
+// README of that folder).
 #include <gtest/gtest.h>
 
 #include <fstream>
