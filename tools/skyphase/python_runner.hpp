@@ -8,7 +8,8 @@
 namespace skyphase {
 
 // Runs `<python> -m module arguments...` and returns its exit status (1 when it died of a
-// signal). Throws wvr::Error when the interpreter cannot be started.
+// signal). The child receives SIGTERM if this process dies first, so that it never keeps
+// running without us. Throws wvr::Error when the interpreter cannot be started.
 int run_python_module(const std::string& module, const std::vector<std::string>& arguments);
 
 }  // namespace skyphase

@@ -1,16 +1,15 @@
-// skyphase report: diagnose a night and render the HTML night report (figures by the Python
-// package's wvr.report module with matplotlib).
+// skyphase report: the HTML night report, made by the Python package's wvr.report (which runs
+// the library's night pipeline and draws with matplotlib). This command forwards its options.
+#include <charconv>
 #include <cstdlib>
-#include <filesystem>
-#include <fstream>
 #include <iostream>
 #include <memory>
+#include <string>
 #include <vector>
 
 #include "commands.hpp"
-#include "diagnose_output.hpp"
+#include "pipeline.hpp"
 #include "python_runner.hpp"
-#include "wvr/error.hpp"
 
 namespace skyphase {
 namespace {
@@ -18,28 +17,37 @@ namespace {
 struct ReportOptions {
   CommonOptions common;
   std::string directory;
+  std::string name;
 };
 
+// Shortest text that reads back as the same double.
+std::string exact_text(double value) {
+  char buffer[32];
+  const auto end = std::to_chars(buffer, buffer + sizeof buffer, value).ptr;
+  return std::string(buffer, end);
+}
+
+std::vector<std::string> renderer_arguments(const ReportOptions& o) {
+  const CommonOptions& c = o.common;
+  std::vector<std::string> args{c.night_file, "-o", o.directory};
+  if (!o.name.empty()) args.insert(args.end(), {"--name", o.name});
+  if (!c.site_file.empty()) args.insert(args.end(), {"--site", c.site_file});
+  if (c.window_s) args.insert(args.end(), {"--window-s", exact_text(*c.window_s)});
+  if (c.obs_freq_ghz) args.insert(args.end(), {"--obs-freq-ghz", exact_text(*c.obs_freq_ghz)});
+  if (!c.thresholds_file.empty()) args.insert(args.end(), {"--thresholds", c.thresholds_file});
+  args.insert(args.end(), {"--advice-layer-height-m", exact_text(c.advice_layer_height_m),
+                           "--advice-separation-deg", exact_text(c.advice_separation_deg),
+                           "--advice-target-rms-deg", exact_text(c.advice_target_rms_deg),
+                           "--threads", std::to_string(c.threads)});
+  return args;
+}
+
 void run_report(const ReportOptions& o) {
-  const std::filesystem::path dir = o.directory;
-  std::filesystem::create_directories(dir);
-  CommonOptions common = o.common;
-  common.output_file = (dir / "night-diagnosed.h5").string();
-  common.overwrite = true;
-  const DiagnosedNight d = diagnose_and_write(common);
-  const std::filesystem::path summary = dir / "summary.json";
-  {
-    std::ofstream out(summary);
-    out << d.json.dump(2) << "\n";
-  }
-  const int status = run_python_module(
-      "wvr.report", {common.output_file, "--summary", summary.string(), "-o", dir.string()});
-  if (status != 0)
-    throw wvr::Error("the report renderer (python -m wvr.report) failed with status " +
-                     std::to_string(status));
-  std::cout << "report: " << (dir / "index.html").string() << "\n"
-            << "summary: " << summary.string() << "\n"
-            << "night with results: " << common.output_file << "\n";
+  const int status = run_python_module("wvr.report", renderer_arguments(o));
+  std::cout.flush();
+  // The renderer's status (0 done, 2 bad input or a refused output directory) is ours; it has
+  // already printed its own one-line message.
+  if (status != 0) std::exit(status);
 }
 
 }  // namespace
@@ -47,18 +55,23 @@ void run_report(const ReportOptions& o) {
 void add_report_command(CLI::App& app) {
   auto options = std::make_shared<ReportOptions>();
   CLI::App* cmd = app.add_subcommand(
-      "report", "Diagnose a night and write an HTML report with figures and a JSON summary");
+      "report",
+      "Process a night and write its HTML report (index.html, figures, report.json)");
   cmd->add_option("night", options->common.night_file, "Night file (HDF5)")
       ->required()
       ->check(CLI::ExistingFile);
   cmd->add_option("-o,--output", options->directory,
-                  "Directory for index.html, figures and summary.json")
+                  "Directory of the report: new, empty, or a report to replace")
       ->required();
+  cmd->add_option("--name", options->name,
+                  "Name of the night in the report's title (default: the file's stem)");
   cmd->add_option("--site", options->common.site_file,
                   "Site file (TOML) overriding the night's own site model")
       ->check(CLI::ExistingFile);
   cmd->add_option("--window-s", options->common.window_s,
                   "Coefficient window (s) of the retrieval (default: the stored one's, or 60)");
+  cmd->add_option("--threads", options->common.threads, "Worker threads (0 = all cores)")
+      ->check(CLI::NonNegativeNumber);
   add_frequency_option(*cmd, options->common);
   add_diagnosis_options(*cmd, options->common);
   cmd->callback([options] { run_report(*options); });
