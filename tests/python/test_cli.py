@@ -172,7 +172,9 @@ def test_the_whole_chain_and_the_report(tmp_path):
     run("report", str(night), "-o", str(report_dir), "--site", SITE)
     html = (report_dir / "index.html").read_text()
     assert "<img" in html and "data-json" in html
-    assert json.loads((report_dir / "summary.json").read_text())["windows"]
+    report = json.loads((report_dir / "report.json").read_text())
+    assert report["windows"] and report["title"] == "Night report: night"
+    assert report["site"]["source"] == "given"
     assert night.read_bytes() == before  # inputs are never modified
 
 

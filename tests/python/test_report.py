@@ -1,27 +1,33 @@
-"""The night report (wvr.report): figures, numbers traced to the JSON summary, bad nights."""
+"""The night report (wvr.report): data equal to the night pipeline's typed results, a page that
+opens with what happened, figures, a report folder that appears whole or not at all."""
 import base64
 import decimal
 import html.parser
 import json
-import math
 import os
 import pathlib
 import re
+import signal
 import struct
 import subprocess
 import sys
+import time
 
 import numpy as np
 import pytest
 
 import wvr
 import wvr.report
+from wvr.report import figures as report_figures
 
 SKYPHASE = os.environ.get("WVR_SKYPHASE", "")
 TESTDATA = pathlib.Path(os.environ.get("WVR_TESTDATA_DIR")
                         or pathlib.Path(__file__).resolve().parent.parent.parent / "testdata")
-SITE = TESTDATA / "sites" / "demo-site.toml"
+SCENARIO = TESTDATA / "scenarios" / "short-eventful-night.toml"
 FIGURES = ("pwv", "phases", "timeline", "structure", "antennas")
+SECTIONS = {"schema", "title", "night", "site", "processing", "retrieval", "calibration",
+            "correction", "verdict_counts", "episodes", "radiometer_faults", "antennas",
+            "windows", "turbulence", "thresholds"}
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
 
 
@@ -29,23 +35,30 @@ PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
 
 
 class _Page(html.parser.HTMLParser):
-    """Images and data-json elements (path, text) of a report page, and its visible text."""
+    """Title, images and data-json elements (path, text) of a report page, and the text of
+    its opening paragraph and of the whole page."""
 
     def __init__(self):
         super().__init__()
-        self.images, self.tagged, self.text = [], [], []
+        self.images, self.tagged, self.text, self.story, self.title = [], [], [], [], []
         self._open = []  # [path, text parts, depth] of data-json elements being read
+        self._in_story = self._in_title = False
 
     def handle_starttag(self, tag, attrs):
         attrs = dict(attrs)
         if tag == "img":
             self.images.append(attrs)
+        self._in_story = self._in_story or attrs.get("id") == "what-happened"
+        self._in_title = tag == "title"
         for entry in self._open:
             entry[2] += 1
         if "data-json" in attrs:
             self._open.append([attrs["data-json"], [], 0])
 
     def handle_endtag(self, tag):
+        if tag == "p":
+            self._in_story = False
+        self._in_title = False
         if self._open and self._open[-1][2] == 0:
             path, parts, _ = self._open.pop()
             self.tagged.append((path, "".join(parts)))
@@ -54,6 +67,10 @@ class _Page(html.parser.HTMLParser):
 
     def handle_data(self, data):
         self.text.append(data)
+        if self._in_story:
+            self.story.append(data)
+        if self._in_title:
+            self.title.append(data)
         for entry in self._open:
             entry[1].append(data)
 
@@ -62,6 +79,7 @@ def read_page(folder):
     page = _Page()
     page.feed((folder / "index.html").read_text(encoding="utf-8"))
     page.visible = re.sub(r"\s+", " ", "".join(page.text))
+    page.story_text = re.sub(r"\s+", " ", "".join(page.story))
     return page
 
 
@@ -94,259 +112,272 @@ def png_size(data):
     return struct.unpack(">II", data[16:24])
 
 
-def check_report(folder, summary):
-    """Everything a report folder must hold, whatever the night; returns (page, document)."""
-    document = json.loads((folder / "summary.json").read_text())
-    for key, value in summary.items():  # the summary is copied unchanged, only enriched
-        assert document[key] == value, key
+def siblings(folder):
+    """Everything beside `folder` whose name starts with its name (partial or old copies)."""
+    return sorted(p.name for p in folder.parent.iterdir()
+                  if p.name.lstrip(".").startswith(folder.name))
+
+
+# ---------------------------------------------------------------- one processed night
+
+
+@pytest.fixture(scope="module")
+def scenario():
+    return wvr.load_scenario(SCENARIO)
+
+
+@pytest.fixture(scope="module")
+def night(scenario):
+    return wvr.simulate_night(scenario)
+
+
+@pytest.fixture(scope="module")
+def processed(night):
+    return wvr.process_night(night)
+
+
+@pytest.fixture(scope="module")
+def data(night, processed, scenario):
+    return wvr.report.report_data(night, processed, name=scenario.name)
+
+
+@pytest.fixture(scope="module")
+def report(night, processed, scenario, tmp_path_factory):
+    """(folder, report.json) of the scenario night's report."""
+    folder = tmp_path_factory.mktemp("report") / "night report"
+    index = wvr.report.write_report(night, processed, folder, name=scenario.name)
+    assert index == folder / "index.html"
+    return folder, json.loads((folder / "report.json").read_text())
+
+
+@pytest.fixture(scope="module")
+def processed_night_file(night, processed, tmp_path_factory):
+    """The night with its result groups, so that a report of it reuses the stored stages."""
+    path = tmp_path_factory.mktemp("night") / "eventful-night.h5"
+    with_results = night
+    for group in processed.result_groups:
+        with_results = with_results.with_result_group(group, replace=True)
+    wvr.write_night(with_results, path)
+    return path
+
+
+# ---------------------------------------------------------------- data
+
+
+def test_report_data_numbers_are_the_typed_results(data, night, processed):
+    assert set(data) == SECTIONS
+    json.dumps(data, allow_nan=False)  # plain JSON values only
+    metrics, calibration = processed.metrics, processed.calibration
+    correction = data["correction"]
+    assert correction["phase_rms_before_deg"] == metrics.phase_rms_before_deg
+    assert correction["phase_rms_after_deg"] == metrics.phase_rms_after_deg
+    assert correction["improvement_factor"] == metrics.improvement_factor
+    assert correction["coherence_after"] == metrics.coherence_after
+    assert correction["obs_freq_ghz"] == processed.obs_freq_ghz
+    assert data["calibration"]["scale"] == calibration.scale
+    assert data["calibration"]["scale_sigma"] == calibration.scale_sigma
+    assert data["retrieval"]["pwv_median_mm"] == processed.retrieval.summary()["pwv_median_mm"]
+    windows = processed.diagnosis.windows
+    assert len(data["windows"]) == len(windows) == len(night.scans)
+    for row, window in zip(data["windows"], windows):
+        assert (row["start_s"], row["stop_s"]) == (window.start_s, window.stop_s)
+        assert row["verdict"] == window.verdict and row["reason"] == window.reason
+        assert row["numbers"]["phase_rms_after_deg"] == (
+            window.rms_after_deg if np.isfinite(window.rms_after_deg) else None)
+        flagged = np.flatnonzero(window.antenna_faults)
+        assert [f["antenna"] for f in row["flagged_antennas"]] == [
+            night.antenna_names[a] for a in flagged]
+    assert sum(data["verdict_counts"].values()) == len(windows)
+    for a, row in enumerate(data["antennas"]):
+        assert row["antenna"] == night.antenna_names[a]
+        assert row["phase_rms_after_deg"] == metrics.antenna_phase_rms_after_deg[a]
+        assert row["scale"] == processed.corrections.antenna_scale[a]
+    turbulence = data["turbulence"]
+    for key in ("before", "after", "radiometer"):
+        series, typed = turbulence["structure_functions"][key], getattr(processed.turbulence, key)
+        assert series["measured"] == typed.measured, key
+        assert series["separation_m"] == list(typed.points.separation), key
+        assert series["value_m2"] == list(typed.points.value_m2), key
+        assert series["fit"]["slope_short"] == typed.fit.slope_short, key
+        assert series["fit"]["break_m"] == typed.fit.break_m, key
+        assert series["fitted_m2"] == list(typed.fit.evaluate_m2(typed.points.separation)), key
+    assert turbulence["wind"]["speed_m_s"] == processed.turbulence.wind.speed_m_s
+    assert turbulence["slab"]["thickness_m"] == processed.turbulence.slab.fit.thickness_m
+    assert data["thresholds"] == processed.diagnosis.thresholds.to_dict()
+
+
+def test_episodes_cover_the_windows_in_order(data):
+    covered = [k for e in data["episodes"] for k in e["windows"]]
+    assert covered == list(range(len(data["windows"])))
+    for before, after in zip(data["episodes"], data["episodes"][1:]):
+        assert before["verdict"] != after["verdict"]
+        assert before["stop_s"] == after["start_s"]
+
+
+# ---------------------------------------------------------------- the written report
+
+
+def test_report_folder_holds_the_data_the_page_and_the_figures(report, data):
+    folder, document = report
+    assert sorted(p.name for p in folder.iterdir()) == sorted(
+        ["index.html", "report.json"] + [f"{name}.png" for name in FIGURES])
+    assert {k: v for k, v in document.items() if k != "figures"} == json.loads(json.dumps(data))
+    assert [f["name"] for f in document["figures"]] == list(FIGURES)
+    assert not [f for f in document["figures"] if f["not_available"]]
     page = read_page(folder)
     assert len(page.images) == len(FIGURES)
     for image, name in zip(page.images, FIGURES):
         prefix = "data:image/png;base64,"
         assert image["src"].startswith(prefix), name
-        data = base64.b64decode(image["src"][len(prefix):], validate=True)
-        width, height = png_size(data)
+        png = base64.b64decode(image["src"][len(prefix):], validate=True)
+        width, height = png_size(png)
         assert width > 300 and height > 100, name
-        assert (folder / f"{name}.png").read_bytes() == data, name
-    paths = [path for path, _ in page.tagged]
+        assert (folder / f"{name}.png").read_bytes() == png, name
     for path, text in page.tagged:
         assert_shown(text, lookup(document, path), path)
-    for key in summary["summary"]:
-        if key != "verdict_counts":
-            assert f"summary.{key}" in paths, key
-    for verdict in summary["summary"]["verdict_counts"]:
-        assert f"summary.verdict_counts.{verdict}" in paths, verdict
-    for k, window in enumerate(summary["windows"]):
-        for key in ("start_s", "stop_s", "verdict", "reason"):
+    paths = {path for path, _ in page.tagged}
+    for key in document["correction"]:
+        assert f"correction.{key}" in paths, key
+    for k, window in enumerate(document["windows"]):
+        for key in ("start_utc", "stop_utc", "verdict", "reason"):
             assert f"windows.{k}.{key}" in paths, (k, key)
         for name in window["numbers"]:
             assert f"windows.{k}.numbers.{name}" in paths, (k, name)
-    for k in range(len(summary.get("notes", []))):
-        assert f"notes.{k}" in paths
-    for name in document["report"]["not_available"]:
-        assert f"report.not_available.{name}" in paths
-    return page, document
+    assert siblings(folder) == [folder.name]  # no partial or old copy left beside it
 
 
-def run_report(night_path, summary_path, folder):
-    result = subprocess.run(
-        [sys.executable, "-m", "wvr.report", str(night_path), "--summary", str(summary_path),
-         "-o", str(folder)], capture_output=True, text=True, timeout=300)
-    return result
+def test_title_names_the_night_not_its_file(report, scenario, processed_night_file):
+    folder, document = report
+    page = read_page(folder)
+    assert document["title"] == f"Night report: {scenario.name}"
+    assert "".join(page.title) == document["title"]
+    assert ("title", document["title"]) in page.tagged
 
 
-# ---------------------------------------------------------------- nights
+def test_opening_summary_tells_what_happened(report, night, processed):
+    folder, document = report
+    page = read_page(folder)
+    story = page.story_text
+    # It comes first, before the tables.
+    assert page.visible.index(story[:40]) < page.visible.index("Episodes")
+    assert f"{processed.metrics.phase_rms_before_deg:.3g} deg to " \
+           f"{processed.metrics.phase_rms_after_deg:.3g} deg" in story
+    assert "Correction worked in" in story
+    # Every episode of the scenario's truth is named with its verdict and a time span that
+    # overlaps it; the sick radiometer is named among the faulty ones.
+    for episode in night.truth["episodes"]:
+        if episode["antenna"] >= 0:
+            name = night.antenna_names[episode["antenna"]]
+            faults = story[story.index("Radiometers flagged as faulty"):]
+            assert name in faults, (name, faults)
+            flagged = [f for f in document["radiometer_faults"] if f["antenna"] == name]
+            assert flagged and flagged[0]["start_s"] < episode["stop_s"]
+            continue
+        matching = [e for e in document["episodes"] if e["verdict"] == episode["label"]
+                    and e["start_s"] < episode["stop_s"] and e["stop_s"] > episode["start_s"]]
+        assert matching, (episode, [e["verdict"] for e in document["episodes"]])
+        e = matching[0]
+        assert f"{e['start_utc']} to {e['stop_utc']} ({e['verdict']}: " in story, episode
 
 
-@pytest.fixture(scope="module")
-def night(tmp_path_factory):
-    scenario = wvr.load_scenario(TESTDATA / "demo-scenario.toml").with_overrides(
-        duration_s=1200.0, antenna_count=8)
-    return wvr.simulate_night(scenario)
+def test_structure_figure_labels_are_rounded_and_the_json_keeps_the_fit(report):
+    folder, document = report
+    fit = document["turbulence"]["structure_functions"]["radiometer"]["fit"]
+    label = report_figures.rounded_fit_label("radiometer", fit)
+    assert f"{fit['slope_short']:.1f}" in label and str(fit["slope_short"]) not in label
+    for key in ("slope_short_sigma", "break_sigma_m", "amplitude_m2", "transition_width",
+                "saturation_m2"):
+        assert key in fit
+    drawn = [s[0] for s in report_figures.STRUCTURE_SERIES]
+    assert drawn == ["before", "after", "radiometer"]
+    assert all(document["turbulence"]["structure_functions"][k]["measured"] for k in drawn)
 
 
-def variant(night, kind):
-    """A copy of `night` with its calibrator scans removed, only its first antenna kept, or
-    every radiometer sample marked invalid."""
-    d = night.to_dict()
-    d.pop("results", None)
-    if kind == "no calibrator scans":
-        d["scans"] = [s for s in d["scans"] if s["intent"] != "calibrator"]
-        d["calibrator_phases"] = {k: v[:0] for k, v in d["calibrator_phases"].items()}
-    elif kind == "single antenna":
-        for key in ("position_enu_m", "brightness_k", "elevation_deg", "azimuth_deg", "valid"):
-            d[key] = d[key][:1]
-        d["antenna_names"] = d["antenna_names"][:1]
-        d["radiometer_ids"] = d["radiometer_ids"][:1]
-        d["calibrator_phases"] = {k: v[:0] for k, v in d["calibrator_phases"].items()}
-        d["truth"] = None
-    elif kind == "all radiometers invalid":
-        d["valid"] = np.zeros_like(d["valid"])
-    return wvr.Night.from_arrays(**d)
+# ---------------------------------------------------------------- the output folder
 
 
-def handmade_summary(night_path, night):
-    """A summary in the schema of skyphase diagnose, with numbers derived from the night, for
-    the tests that do not need the command."""
-    verdicts = ["corrected", "quiet sky", "dry turbulence", "cloud", "radiometer fault",
-                "scale off", "cannot judge"]
-    windows, counts = [], {}
-    phases = night.calibrator_phases
-    for k, scan in enumerate(night.scans):
-        verdict = verdicts[k % len(verdicts)]
-        counts[verdict] = counts.get(verdict, 0) + 1
-        rows = (phases["time_s"] >= scan["start_s"]) & (phases["time_s"] < scan["stop_s"])
-        rms_deg = float(np.degrees(np.std(phases["phase_rad"][rows]))) if rows.any() else None
-        windows.append({
-            "start_s": scan["start_s"], "stop_s": scan["stop_s"], "kind": scan["intent"],
-            "verdict": verdict, "inherited": scan["intent"] == "target",
-            "reason": f"scan {k} <{scan['source']}> & neighbours",
-            "antennas": [{"antenna": night.antenna_names[k % night.antenna_count],
-                          "faults": "spikes"}] if verdict == "radiometer fault" else [],
-            "numbers": {"phase_rms_before_deg": rms_deg, "phase_rms_after_deg": None,
-                        "floor_deg": 1.23456e-4, "improvement_factor": 3.0 + k,
-                        "correlation": 0.987654, "slope": 1.0 + 0.01 * k,
-                        "radiometer_path_rms_um": 123456.789, "chi2_per_dof": 1.5}})
-    separation_m = [20.0, 50.0, 100.0, 200.0, 400.0]
-    fit = {"amplitude_m2": 1e-8, "alpha_short": 5.0 / 3.0, "alpha_long": 2.0 / 3.0,
-           "break_m": 100.0, "transition_width": 0.5, "saturation_m2": 0.0}
-    return {
-        "night": str(night_path), "output": str(night_path),
-        "antennas": list(night.antenna_names),
-        "summary": {"windows": len(windows), "verdict_counts": counts, "scale": 0.987,
-                    "scale_sigma": 0.0123, "phase_rms_before_deg": 19.4677,
-                    "phase_rms_after_deg": 3.6725, "improvement_factor": 5.3009,
-                    "coherence_before": 0.94391, "coherence_after": 0.99795},
-        "windows": windows,
-        "thresholds": {"cloud_chi2_per_dof": 6.0, "dry_floor_ratio": 2.0},
-        "notes": ["target scans have no phases of their own"],
-        "structure_function": {"radiometer": {
-            "separation_m": separation_m,
-            "structure_m2": [float(v) for v in wvr.report.broken_power_law_m2(separation_m, fit)],
-            "fit": fit}},
-        "wind_speed_m_s": 8.25, "wind_direction_deg": None,
-    }
-
-
-# ---------------------------------------------------------------- units
-
-
-def test_format_value_is_consistent():
-    assert wvr.report.format_value(None) == "n/a"
-    assert wvr.report.format_value(float("nan")) == "n/a"
-    assert wvr.report.format_value(True) == "yes"
-    assert wvr.report.format_value(12) == "12"
-    assert wvr.report.format_value(4.321987) == "4.322"
-    assert wvr.report.format_value(0.0) == "0"
-    assert wvr.report.format_value(123456.78) == "123456.8"
-    assert wvr.report.format_value(1.5e-5) == "1.500e-05"
-    assert wvr.report.format_value("cloud") == "cloud"
-
-
-def test_broken_power_law_has_the_fitted_asymptotes():
-    fit = {"amplitude_m2": 2e-8, "alpha_short": 5.0 / 3.0, "alpha_long": 2.0 / 3.0,
-           "break_m": 300.0, "transition_width": 0.5}
-    d = np.array([1.0, 2.0, 1e5, 2e5])
-    value = wvr.report.broken_power_law_m2(d, fit)
-    assert math.log(value[1] / value[0]) / math.log(2) == pytest.approx(5.0 / 3.0, abs=1e-3)
-    assert math.log(value[3] / value[2]) / math.log(2) == pytest.approx(2.0 / 3.0, abs=1e-3)
-    # At the break the smooth joint lies (alpha_long - alpha_short) w ln 2 above the asymptotes.
-    at_break = wvr.report.broken_power_law_m2([300.0], fit)[0]
-    assert at_break == pytest.approx(2e-8 * 2 ** (-0.5), rel=1e-12)
-    saturated = wvr.report.broken_power_law_m2([1e9], dict(fit, saturation_m2=1e-6))[0]
-    assert saturated == pytest.approx(1e-6, rel=1e-9)
-
-
-# ---------------------------------------------------------------- pages from a hand-made summary
-
-
-@pytest.fixture(scope="module")
-def retrieved_night(night, tmp_path_factory):
-    folder = tmp_path_factory.mktemp("retrieved")
-    wvr.write_night(night, folder / "night.h5")
-    retrieval = wvr.retrieve_night(night, wvr.load_site(SITE))
-    wvr.add_result_group(folder / "night.h5", folder / "night-retrieved.h5",
-                         retrieval.to_result_group(night))
-    return folder / "night-retrieved.h5"
-
-
-def test_report_of_a_retrieved_night_with_a_handmade_summary(night, retrieved_night, tmp_path):
-    summary = handmade_summary(retrieved_night, night)
-    (tmp_path / "summary-in.json").write_text(json.dumps(summary))
-    result = run_report(retrieved_night, tmp_path / "summary-in.json", tmp_path / "report")
-    assert result.returncode == 0, result.stderr
-    assert result.stdout.strip() == str(tmp_path / "report" / "index.html")
-    page, document = check_report(tmp_path / "report", summary)
-    assert "structure_function.radiometer.fit.alpha_short" in [p for p, _ in page.tagged]
-    assert "wind_speed_m_s" in [p for p, _ in page.tagged]
-    # Without calibration and correction results the per-antenna figure says so; the PWV,
-    # phase (uncorrected only), timeline and structure figures are drawn.
-    assert set(document["report"]["not_available"]) == {"antennas"}
-    assert "not available: the night has no correction results" in page.visible
-    assert document["report"]["night"]["antenna_count"] == night.antenna_count
-    assert document["report"]["night"]["channel_names"] == list(night.channel_names)
-    assert document["report"]["night"]["duration_s"] == pytest.approx(
-        night.time_s[-1] - night.time_s[0])
-    # Reasons are escaped, not interpreted as markup.
-    assert "<" + night.scans[0]["source"] + ">" in page.visible
-
-
-def test_report_says_when_the_structure_function_is_missing(night, retrieved_night, tmp_path):
-    summary = handmade_summary(retrieved_night, night)
-    del summary["structure_function"]
-    index = wvr.report.build_report(retrieved_night, summary, tmp_path)
-    page, document = check_report(tmp_path, summary)
-    assert index == tmp_path / "index.html"
-    assert "structure" in document["report"]["not_available"]
-    assert "not available: the summary has no structure function" in page.visible
-
-
-@pytest.mark.parametrize("change, field", [
-    (lambda s: s.pop("windows"), "'windows'"),
-    (lambda s: s["windows"].pop(), "'windows' has"),
-    (lambda s: s["windows"][0].pop("verdict"), "'windows.0.verdict'"),
-])
-def test_report_rejects_a_summary_that_does_not_fit(night, retrieved_night, tmp_path, change,
-                                                   field):
-    summary = handmade_summary(retrieved_night, night)
-    change(summary)
-    (tmp_path / "summary.json").write_text(json.dumps(summary))
-    result = run_report(retrieved_night, tmp_path / "summary.json", tmp_path / "report")
+def test_an_existing_directory_that_is_not_a_report_is_refused(night, processed, tmp_path):
+    folder = tmp_path / "results"
+    folder.mkdir()
+    (folder / "notes.txt").write_text("mine")
+    with pytest.raises(wvr.report.ReportOutputError, match="results.*is not a night report"):
+        wvr.report.write_report(night, processed, folder, name="n")
+    assert sorted(p.name for p in folder.iterdir()) == ["notes.txt"]
+    assert siblings(folder) == ["results"]
+    result = subprocess.run([sys.executable, "-m", "wvr.report", str(tmp_path / "absent.h5"),
+                             "-o", str(folder)], capture_output=True, text=True, timeout=60)
     assert result.returncode == 2
-    assert field in result.stderr and "summary" in result.stderr
-    assert not (tmp_path / "report" / "index.html").exists()
+    assert "is not a night report" in result.stderr and len(result.stderr.splitlines()) == 1
 
 
-def test_report_rejects_a_missing_night(tmp_path):
-    (tmp_path / "summary.json").write_text(json.dumps({"summary": {}, "windows": []}))
-    result = run_report(tmp_path / "absent.h5", tmp_path / "summary.json", tmp_path / "report")
-    assert result.returncode == 2
-    assert "absent.h5" in result.stderr
-
-
-# ---------------------------------------------------------------- end to end with skyphase
-
-
-def diagnose(night, folder):
-    wvr.write_night(night, folder / "night.h5")
-    result = subprocess.run(
-        [SKYPHASE, "diagnose", str(folder / "night.h5"), "-o", str(folder / "diagnosed.h5"),
-         "--site", str(SITE), "--format", "json"], capture_output=True, text=True, timeout=600)
+def test_a_report_is_replaced_whole(report, processed_night_file, tmp_path):
+    folder = tmp_path / "report"
+    folder.mkdir()
+    for path in report[0].iterdir():
+        (folder / path.name).write_bytes(path.read_bytes())
+    (folder / "stale.png").write_bytes(b"left over")
+    result = subprocess.run([sys.executable, "-m", "wvr.report", str(processed_night_file),
+                             "-o", str(folder)], capture_output=True, text=True, timeout=120)
     assert result.returncode == 0, result.stderr
-    (folder / "summary.json").write_text(result.stdout)
-    return folder / "diagnosed.h5", json.loads(result.stdout)
+    assert not (folder / "stale.png").exists()  # a new folder, not the old one rewritten
+    document = json.loads((folder / "report.json").read_text())
+    assert document["title"] == "Night report: eventful-night"  # the file's stem
+    assert document["processing"]["retrieval_reused"]
+    assert siblings(folder) == ["report"]
+
+
+def _children(pid):
+    """Process ids whose parent is `pid`, zombies left out."""
+    found = []
+    for entry in pathlib.Path("/proc").iterdir():
+        if not entry.name.isdigit():
+            continue
+        try:
+            stat = (entry / "stat").read_text()
+        except OSError:
+            continue
+        fields = stat[stat.rindex(")") + 2:].split()
+        if int(fields[1]) == pid and fields[0] != "Z":
+            found.append(int(entry.name))
+    return found
+
+
+def _alive(pid):
+    try:
+        stat = pathlib.Path(f"/proc/{pid}/stat").read_text()
+    except OSError:
+        return False
+    return stat[stat.rindex(")") + 2] != "Z"
+
+
+def _wait_for(condition, timeout_s, step_s=0.005):
+    """Polls `condition` until it is true or `timeout_s` passed; returns its last value."""
+    deadline = time.monotonic() + timeout_s
+    while True:
+        value = condition()
+        if value or time.monotonic() > deadline:
+            return value
+        time.sleep(step_s)
 
 
 @pytest.mark.usefixtures("skyphase")
-def test_report_of_a_diagnosed_night(night, tmp_path):
-    diagnosed, summary = diagnose(night, tmp_path)
-    result = run_report(diagnosed, tmp_path / "summary.json", tmp_path / "report")
-    assert result.returncode == 0, result.stderr
-    page, document = check_report(tmp_path / "report", summary)
-    # A simulated night with calibrator scans on 8 antennas: every figure but possibly the
-    # structure function (present only when the command reports it) is drawn.
-    assert set(document["report"]["not_available"]) <= {"structure"}
-    assert len(document["report"]["antennas"]) == night.antenna_count
-    assert sum(summary["summary"]["verdict_counts"].values()) == len(night.scans)
-
-
-@pytest.mark.usefixtures("skyphase")
-@pytest.mark.parametrize("kind, figure, words", [
-    ("no calibrator scans", "phases", "no calibrator phases"),
-    ("single antenna", "phases", "single antenna"),
-    ("all radiometers invalid", "pwv", "unusable"),
-])
-def test_report_of_a_bad_night_names_what_could_not_be_judged(night, tmp_path, kind, figure,
-                                                              words):
-    diagnosed, summary = diagnose(variant(night, kind), tmp_path)
-    result = run_report(diagnosed, tmp_path / "summary.json", tmp_path / "report")
-    assert result.returncode == 0, result.stderr
-    page, document = check_report(tmp_path / "report", summary)
-    reason = document["report"]["not_available"][figure]
-    assert words in reason
-    assert f"not available: {reason}" in page.visible
-    # The command's own notes are on the page too.
-    for note in summary["notes"]:
-        assert note in page.visible
-    if kind != "all radiometers invalid":
-        assert summary["notes"], "the command names what it could not judge"
+def test_killing_skyphase_report_leaves_no_renderer_and_no_partial_output(
+        processed_night_file, tmp_path):
+    folder = tmp_path / "report"
+    parent = subprocess.Popen([SKYPHASE, "report", str(processed_night_file), "-o", str(folder)],
+                              stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    try:
+        renderer = _wait_for(lambda: _children(parent.pid), 60)
+        assert renderer, "skyphase report started no renderer"
+        # Kill the command while the renderer is writing its partial folder.
+        partial = _wait_for(lambda: [p for p in tmp_path.iterdir() if ".partial-" in p.name], 60)
+        assert partial, f"no partial folder appeared (renderer status {parent.poll()})"
+        parent.send_signal(signal.SIGKILL)
+        parent.wait(timeout=10)
+        assert _wait_for(lambda: not any(_alive(pid) for pid in renderer), 30), \
+            "the renderer outlived skyphase"
+        # A renderer that outlived skyphase would have finished the report.
+        assert list(tmp_path.iterdir()) == [], "a partial or complete report was left"
+    finally:
+        if parent.poll() is None:
+            parent.kill()

@@ -55,8 +55,7 @@ void run_report(const ReportOptions& o) {
 void add_report_command(CLI::App& app) {
   auto options = std::make_shared<ReportOptions>();
   CLI::App* cmd = app.add_subcommand(
-      "report",
-      "Process a night and write its HTML report (index.html, figures, report.json)");
+      "report", "Process a night and write its HTML report (index.html, figures, report.json)");
   cmd->add_option("night", options->common.night_file, "Night file (HDF5)")
       ->required()
       ->check(CLI::ExistingFile);
