@@ -34,7 +34,7 @@ UNKNOWN_VERDICT_COLOUR = "#000000"
 RC_PARAMS = {"text.parse_math": False, "axes.formatter.use_mathtext": False}
 
 
-class FigureUnavailable(Exception):
+class FigureUnavailable(wvr.WvrError):
     """The figure cannot be drawn; the message says why, for the page."""
 
 

@@ -43,27 +43,21 @@ def check_output(directory):
             f"{SCHEMA}); give a new or empty directory, or remove it first")
 
 
-class _Terminated(BaseException):
-    """SIGTERM arrived while a report was being written (raised so that cleanup runs)."""
-
-
 @contextlib.contextmanager
 def _terminate_cleanly():
-    """SIGTERM (e.g. sent because the parent died) raises _Terminated, so that the partial
-    directory is removed; restores the previous handler afterwards. Only the main thread can
-    install handlers; elsewhere the context does nothing."""
+    """SIGTERM (e.g. sent because the parent died) raises SystemExit, so that the partial
+    directory is removed on the way out; restores the previous handler afterwards. Only the
+    main thread can install handlers; elsewhere the context does nothing."""
     if threading.current_thread() is not threading.main_thread():
         yield
         return
 
-    def raise_terminated(signum, frame):
-        raise _Terminated()
+    def exit_cleanly(signum, frame):
+        raise SystemExit(128 + signum)
 
-    previous = signal.signal(signal.SIGTERM, raise_terminated)
+    previous = signal.signal(signal.SIGTERM, exit_cleanly)
     try:
         yield
-    except _Terminated:
-        raise SystemExit(128 + signal.SIGTERM) from None
     finally:
         signal.signal(signal.SIGTERM, previous)
 
