@@ -293,6 +293,59 @@ def test_structure_figure_labels_are_rounded_and_the_json_keeps_the_fit(report):
     assert all(document["turbulence"]["structure_functions"][k]["measured"] for k in drawn)
 
 
+# ---------------------------------------------------------------- nights that lack something
+
+
+def variant(night, kind):
+    """A copy of `night` without its result groups, and without its calibrator scans, with
+    only its first antenna, or with every radiometer sample marked invalid."""
+    d = night.to_dict()
+    d.pop("results", None)
+    if kind == "no calibrator scans":
+        d["scans"] = [s for s in d["scans"] if s["intent"] != "calibrator"]
+        d["calibrator_phases"] = {k: v[:0] for k, v in d["calibrator_phases"].items()}
+    elif kind == "single antenna":
+        for key in ("position_enu_m", "brightness_k", "elevation_deg", "azimuth_deg", "valid"):
+            d[key] = d[key][:1]
+        d["antenna_names"] = d["antenna_names"][:1]
+        d["radiometer_ids"] = d["radiometer_ids"][:1]
+        d["calibrator_phases"] = {k: v[:0] for k, v in d["calibrator_phases"].items()}
+        d["truth"] = None
+    elif kind == "all radiometers invalid":
+        d["valid"] = np.zeros_like(d["valid"])
+    return wvr.Night.from_arrays(**d)
+
+
+@pytest.fixture(scope="module")
+def small_night():
+    scenario = wvr.load_scenario(TESTDATA / "demo-scenario.toml").with_overrides(
+        duration_s=1200.0, antenna_count=8)
+    return wvr.simulate_night(scenario)
+
+
+@pytest.mark.parametrize("kind, missing, words", [
+    ("no calibrator scans", {"phases", "antennas"}, "no calibrator phases"),
+    ("single antenna", {"phases", "structure", "antennas"}, "single antenna"),
+    ("all radiometers invalid", {"pwv", "antennas"}, "unusable"),
+])
+def test_a_night_that_lacks_something_says_what_could_not_be_judged(small_night, kind, missing,
+                                                                   words):
+    night = variant(small_night, kind)
+    processed = wvr.process_night(night)
+    data = wvr.report.report_data(night, processed, name=kind)
+    made = report_figures.render_all(night, processed, data)
+    data["figures"] = [{"name": name, "file": f"{name}.png", "caption": caption,
+                        "not_available": reason} for name, caption, _, reason in made]
+    page = wvr.report.render_page(data, made)
+    assert {f["name"] for f in data["figures"] if f["not_available"]} == missing
+    reasons = " ".join(f["not_available"] or "" for f in data["figures"])
+    assert words in reasons
+    story = page[page.index('id="what-happened"'):page.index("</p>", page.index("what-happened"))]
+    assert "could not be measured: the night has no usable calibrator phases" in story
+    assert "n/a" not in story  # what is missing is said in words, not as blank numbers
+    assert "It could not be judged from" in story
+
+
 # ---------------------------------------------------------------- the output folder
 
 

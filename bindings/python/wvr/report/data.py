@@ -17,8 +17,10 @@ __all__ = ["SCHEMA", "report_data", "clock_utc"]
 # Names the layout of report.json; a reader checks it before trusting the keys.
 SCHEMA = "wvr-night-report/1"
 
-# Verdicts in which the correction did its job (or had nothing to do).
+# Verdicts in which the correction did its job (or had nothing to do), and the one that says
+# the evidence was missing (wvr::Verdict's names).
 WORKING_VERDICTS = ("corrected", "quiet sky")
+UNJUDGED_VERDICT = "cannot judge"
 
 
 def _number(value):

@@ -10,6 +10,7 @@ import base64
 import html
 import math
 
+from wvr.report.data import UNJUDGED_VERDICT
 from wvr.report.figures import UNKNOWN_VERDICT_COLOUR, VERDICT_COLOURS
 
 __all__ = ["format_value", "render_page"]
@@ -100,27 +101,19 @@ def _story(d, tag):
 
     night = d["night"]
     sentences = [
-        f"{html.escape(night['name'])}: {tag('night.antenna_count')} antennas observed from "
-        f"{tag('night.start_utc')} to {tag('night.stop_utc')} UTC on "
-        f"{tag('night.date_utc')} in {tag('night.scan_count')} scans; the median PWV was "
-        f"{num('retrieval.pwv_median_mm')} mm (10-90 %: {num('retrieval.pwv_p10_mm')} to "
-        f"{num('retrieval.pwv_p90_mm')} mm)."]
-    if d["correction"] is not None:
-        scale = ""
-        if d["calibration"] is not None:
-            scale = (f" with a path-to-phase scale of {num('calibration.scale')} "
-                     f"&plusmn; {tag('calibration.scale_sigma', digits=2)}")
-        sentences.append(
-            f"Over the night the radiometer correction{scale} brought the calibrator phase rms "
-            f"from {num('correction.phase_rms_before_deg')} deg to "
-            f"{num('correction.phase_rms_after_deg')} deg (a factor "
-            f"{num('correction.improvement_factor')}; coherence "
-            f"{num('correction.coherence_before')} to {num('correction.coherence_after')}).")
+        f"{html.escape(night['name'])}: {_plural_tag(tag, 'night.antenna_count', 'antenna')} "
+        f"observed from {tag('night.start_utc')} to {tag('night.stop_utc')} UTC on "
+        f"{tag('night.date_utc')} in {_plural_tag(tag, 'night.scan_count', 'scan')}; "]
+    if d["retrieval"]["pwv_median_mm"] is not None:
+        sentences[0] += (f"the median PWV was {num('retrieval.pwv_median_mm')} mm (10-90 %: "
+                         f"{num('retrieval.pwv_p10_mm')} to {num('retrieval.pwv_p90_mm')} mm).")
     else:
-        sentences.append("The night was not corrected, so no phase numbers are given.")
+        sentences[0] += "no usable PWV was retrieved."
+    sentences.append(_correction_sentence(d, tag, num))
     episodes = d["episodes"]
     working = [k for k, e in enumerate(episodes) if e["working"]]
-    failing = [k for k, e in enumerate(episodes) if not e["working"]]
+    unjudged = [k for k, e in enumerate(episodes) if e["verdict"] == UNJUDGED_VERDICT]
+    failing = [k for k, e in enumerate(episodes) if not e["working"] and k not in unjudged]
     if not episodes:
         sentences.append("No window could be judged: the night has no scans.")
     if working:
@@ -135,15 +128,46 @@ def _story(d, tag):
         count = sum(episodes[k]["window_count"] for k in working)
         sentences.append(f"Correction worked in {count} of "
                          f"{_plural(len(d['windows']), 'window')}: {_join(parts)} UTC.")
-    if failing:
-        parts = [f"{tag(f'episodes.{k}.start_utc')} to {tag(f'episodes.{k}.stop_utc')} "
-                 f"({tag(f'episodes.{k}.verdict')}: {tag(f'episodes.{k}.reason')})"
-                 for k in failing]
-        sentences.append(f"It did not work from {_join(parts)} UTC.")
-    elif episodes:
+    for indices, opening in ((failing, "It did not work from"),
+                             (unjudged, "It could not be judged from")):
+        if indices:
+            parts = [f"{tag(f'episodes.{k}.start_utc')} to {tag(f'episodes.{k}.stop_utc')} "
+                     f"({tag(f'episodes.{k}.verdict')}: {tag(f'episodes.{k}.reason')})"
+                     for k in indices]
+            sentences.append(f"{opening} {_join(parts)} UTC.")
+    if episodes and not failing and not unjudged:
         sentences.append("It worked in every window.")
     sentences.append(_faults_sentence(d, tag))
     return '<p class="story" id="what-happened">' + " ".join(s for s in sentences if s) + "</p>"
+
+
+def _correction_sentence(d, tag, num):
+    correction, calibration = d["correction"], d["calibration"]
+    if correction is None:
+        return "The night was not corrected, so no phase numbers are given."
+    if calibration is not None and not calibration["ok"]:
+        scale = (f" The scaling solve found no scale ({tag('calibration.status')}: "
+                 f"{tag('calibration.message')}; scale left at {num('calibration.scale')}).")
+    elif calibration is not None:
+        scale = (f" with a path-to-phase scale of {num('calibration.scale')} "
+                 f"&plusmn; {tag('calibration.scale_sigma', digits=2)}")
+    else:
+        scale = ""
+    if correction["phase_rms_before_deg"] is None or correction["phase_rms_after_deg"] is None:
+        return ("The correction's effect could not be measured: the night has no usable "
+                "calibrator phases." + (scale if scale.startswith(" The") else ""))
+    sentence = (
+        f"Over the night the radiometer correction{'' if scale.startswith(' The') else scale} "
+        f"brought the calibrator phase rms from {num('correction.phase_rms_before_deg')} deg to "
+        f"{num('correction.phase_rms_after_deg')} deg (a factor "
+        f"{num('correction.improvement_factor')}; coherence "
+        f"{num('correction.coherence_before')} to {num('correction.coherence_after')}).")
+    return sentence + (scale if scale.startswith(" The") else "")
+
+
+def _plural_tag(tag, path, word):
+    count = _lookup(tag.document, path)
+    return f"{tag(path)} {word}" + ("" if count == 1 else "s")
 
 
 def _faults_sentence(d, tag):
