@@ -182,6 +182,7 @@ def test_report_data_numbers_are_the_typed_results(data, night, processed):
     for row, window in zip(data["windows"], windows):
         assert (row["start_s"], row["stop_s"]) == (window.start_s, window.stop_s)
         assert row["verdict"] == window.verdict and row["reason"] == window.reason
+        assert row["correction_usable"] == window.correction_usable
         assert row["numbers"]["phase_rms_after_deg"] == (
             window.rms_after_deg if np.isfinite(window.rms_after_deg) else None)
         flagged = np.flatnonzero(window.antenna_faults)
@@ -209,6 +210,7 @@ def test_report_data_numbers_are_the_typed_results(data, night, processed):
 def test_episodes_cover_the_windows_in_order(data):
     covered = [k for e in data["episodes"] for k in e["windows"]]
     assert covered == list(range(len(data["windows"])))
+    assert {e["verdict"] for e in data["episodes"] if e["correction_usable"]} == {"corrected"}
     for before, after in zip(data["episodes"], data["episodes"][1:]):
         assert before["verdict"] != after["verdict"]
         assert before["stop_s"] == after["start_s"]

@@ -352,6 +352,10 @@ void export_diagnosis_types(py::module_& m) {
       .def_readonly("inherited", &WindowDiagnosis::inherited)
       .def_property_readonly("verdict",
                              [](const WindowDiagnosis& w) { return to_string(w.verdict); })
+      .def_property_readonly(
+          "correction_usable",
+          [](const WindowDiagnosis& w) { return correction_usable(w.verdict); },
+          "the correction can be used here: corrected, or a quiet sky")
       .def_readonly("reason", &WindowDiagnosis::reason)
       .def_property_readonly("antenna_faults", view_1d(&WindowDiagnosis::antenna_faults),
                              "[antenna] fault bits (0 = healthy)")

@@ -59,6 +59,10 @@ enum class Verdict : std::uint8_t {
   kCannotJudge,
 };
 std::string to_string(Verdict verdict);
+// Whether the radiometer correction can be used in a window with this verdict: it removed the
+// wet phase (corrected) or there was little to remove (quiet sky). Every other verdict says
+// why not, or that the evidence was missing (cannot judge).
+bool correction_usable(Verdict verdict);
 
 // Reasons an antenna is flagged in a window (bits).
 enum AntennaFault : std::uint8_t {

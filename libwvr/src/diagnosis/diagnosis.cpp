@@ -35,6 +35,10 @@ std::string to_string(Verdict verdict) {
   return "unknown";
 }
 
+bool correction_usable(Verdict verdict) {
+  return verdict == Verdict::kCorrected || verdict == Verdict::kQuietSky;
+}
+
 std::string describe_antenna_faults(std::uint8_t faults) {
   static const std::pair<std::uint8_t, const char*> kNames[] = {
       {kFaultNoData, "no data"},

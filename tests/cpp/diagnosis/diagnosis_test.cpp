@@ -166,5 +166,15 @@ TEST(Diagnosis, NightsThatCannotBeJudgedSaySo) {
   EXPECT_NE(empty.notes[0].find("no calibrator phases"), std::string::npos);
 }
 
+TEST(Diagnosis, CorrectionIsUsableWhereItWorkedOrHadNothingToRemove) {
+  const std::map<Verdict, bool> usable = {
+      {Verdict::kCorrected, true},        {Verdict::kQuietSky, true},
+      {Verdict::kDryTurbulence, false},   {Verdict::kCloud, false},
+      {Verdict::kRadiometerFault, false}, {Verdict::kScaleOff, false},
+      {Verdict::kCannotJudge, false}};
+  for (const auto& [verdict, expected] : usable)
+    EXPECT_EQ(correction_usable(verdict), expected) << to_string(verdict);
+}
+
 }  // namespace
 }  // namespace wvr

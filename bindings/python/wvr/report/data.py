@@ -17,9 +17,7 @@ __all__ = ["SCHEMA", "report_data", "clock_utc"]
 # Names the layout of report.json; a reader checks it before trusting the keys.
 SCHEMA = "wvr-night-report/1"
 
-# Verdicts in which the correction did its job (or had nothing to do), and the one that says
-# the evidence was missing (wvr::Verdict's names).
-WORKING_VERDICTS = ("corrected", "quiet sky")
+# The verdict that says the evidence was missing (wvr::Verdict's name).
 UNJUDGED_VERDICT = "cannot judge"
 
 
@@ -121,6 +119,7 @@ def _window_rows(diagnosis, names, epoch):
             "stop_utc": clock_utc(epoch, w.stop_s),
             "kind": "calibrator" if w.calibrator else "target",
             "verdict": w.verdict,
+            "correction_usable": bool(w.correction_usable),
             "inherited": bool(w.inherited),
             "reason": w.reason,
             "numbers": {
@@ -146,7 +145,8 @@ def _median_or_none(values):
 
 
 def _episodes(windows, epoch):
-    """Runs of consecutive windows with one verdict, with the medians of their windows'
+    """Runs of consecutive windows with one verdict (so one answer to whether the correction
+    is usable there, from the library), with the medians of their windows'
     numbers and the reason of their first window that has its own evidence."""
     episodes = []
     for w in windows:
@@ -160,7 +160,7 @@ def _episodes(windows, epoch):
         own = [w for w in members if not w["inherited"]] or members
         out.append({
             "verdict": e["verdict"],
-            "working": e["verdict"] in WORKING_VERDICTS,
+            "correction_usable": all(w["correction_usable"] for w in members),
             "start_s": members[0]["start_s"],
             "stop_s": members[-1]["stop_s"],
             "start_utc": clock_utc(epoch, members[0]["start_s"]),

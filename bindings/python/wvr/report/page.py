@@ -111,9 +111,10 @@ def _story(d, tag):
         sentences[0] += "no usable PWV was retrieved."
     sentences.append(_correction_sentence(d, tag, num))
     episodes = d["episodes"]
-    working = [k for k, e in enumerate(episodes) if e["working"]]
+    working = [k for k, e in enumerate(episodes) if e["correction_usable"]]
     unjudged = [k for k, e in enumerate(episodes) if e["verdict"] == UNJUDGED_VERDICT]
-    failing = [k for k, e in enumerate(episodes) if not e["working"] and k not in unjudged]
+    failing = [k for k, e in enumerate(episodes)
+               if not e["correction_usable"] and k not in unjudged]
     if not episodes:
         sentences.append("No window could be judged: the night has no scans.")
     if working:
