@@ -365,6 +365,15 @@ def test_an_existing_directory_that_is_not_a_report_is_refused(night, processed,
     assert "is not a night report" in result.stderr and len(result.stderr.splitlines()) == 1
 
 
+def test_a_missing_night_is_named_and_nothing_is_written(tmp_path):
+    result = subprocess.run([sys.executable, "-m", "wvr.report", str(tmp_path / "absent.h5"),
+                             "-o", str(tmp_path / "report")], capture_output=True, text=True,
+                            timeout=60)
+    assert result.returncode == 2
+    assert "absent.h5" in result.stderr and len(result.stderr.splitlines()) == 1
+    assert list(tmp_path.iterdir()) == []
+
+
 def test_a_report_is_replaced_whole(report, processed_night_file, tmp_path):
     folder = tmp_path / "report"
     folder.mkdir()
