@@ -1,9 +1,11 @@
-// skyphase absorption: specific attenuation of one gas state (ITU-R P.676 Annex 1).
+// skyphase absorption: specific attenuation of one gas state (ITU-R P.676 Annex 1, or the
+// Rosenkranz 2017 water vapour with P.676 oxygen).
 #include <iostream>
 #include <memory>
 #include <nlohmann/json.hpp>
 
 #include "commands.hpp"
+#include "model_option.hpp"
 #include "output.hpp"
 #include "wvr/absorption.hpp"
 #include "wvr/error.hpp"
@@ -16,6 +18,7 @@ struct AbsorptionOptions {
   double dry_pressure_hpa = 1013.25;
   double temp_k = 288.15;
   double vapour_density_g_m3 = 7.5;
+  std::string absorption_model;
   Format format = Format::kTable;
 };
 
@@ -28,7 +31,7 @@ void run_absorption(const AbsorptionOptions& o) {
   }
   // P.676 Annex 1 convention: p is the dry-air pressure and e = rho T / 216.7 hPa.
   const wvr::GasState state{o.dry_pressure_hpa, o.vapour_density_g_m3 * o.temp_k / 216.7, o.temp_k};
-  const auto model = wvr::make_p676_annex1_model();
+  const auto model = wvr::make_absorption_model(o.absorption_model);
   std::vector<double> dry(o.freq_ghz.size()), water(o.freq_ghz.size());
   model->absorption(o.freq_ghz, state, dry, water);
   std::vector<double> oxygen_db, water_db, total_db;
@@ -83,6 +86,7 @@ void add_absorption_command(CLI::App& app) {
   cmd->add_option("--vapour-density-g-m3", options->vapour_density_g_m3,
                   "Water-vapour density (g/m^3)")
       ->capture_default_str();
+  add_absorption_model_option(*cmd, options->absorption_model);
   add_format_option(*cmd, options->format);
   cmd->callback([options] { run_absorption(*options); });
 }

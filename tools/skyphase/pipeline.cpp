@@ -3,6 +3,7 @@
 #include <cmath>
 #include <iostream>
 
+#include "wvr/absorption.hpp"
 #include "wvr/night_file.hpp"
 #include "wvr/site_config.hpp"
 
@@ -18,6 +19,11 @@ void add_common(CLI::App& cmd, CommonOptions& o) {
   cmd.add_option("--window-s", o.window_s,
                  "Coefficient window (s) of the retrieval (default: the stored retrieval's, or "
                  "60; a stored retrieval made with another window is recomputed)");
+  cmd.add_option("--absorption-model", o.absorption_model,
+                 "Absorption model of the retrieval: p676 (ITU-R P.676-13) or r17 (Rosenkranz 2017 "
+                 "water vapour) (default: the stored retrieval's, or p676; a stored retrieval "
+                 "made with another model is recomputed)")
+      ->check(CLI::IsMember(wvr::absorption_model_keys()));
   cmd.add_option("--threads", o.threads, "Worker threads of the retrieval (0 = all cores)")
       ->capture_default_str()
       ->check(CLI::Range(0, 1024));
@@ -78,9 +84,10 @@ wvr::NightProcessingOptions processing_options(const CommonOptions& o,
     options.site = wvr::load_site_config(o.site_file);
     options.site_description = "site file " + o.site_file;
   }
-  if (retrieve || o.window_s) {
+  if (retrieve || o.window_s || o.absorption_model) {
     wvr::NightRetrievalOptions retrieval;
     retrieval.coefficient_window_s = o.window_s.value_or(retrieval.coefficient_window_s);
+    retrieval.absorption_model = o.absorption_model.value_or(retrieval.absorption_model);
     retrieval.window_fit.fit_liquid = o.fit_liquid;
     retrieval.window_fit.fit_temperature_offset = o.fit_temperature;
     options.retrieval = retrieval;

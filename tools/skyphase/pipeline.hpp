@@ -19,8 +19,10 @@ struct CommonOptions {
   std::string output_file;
   std::string site_file;           // empty: the night's own site (record, or defaults)
   std::optional<double> window_s;  // unset: the stored retrieval's, or 60 s
-  bool fit_liquid = false;         // retrieve only
-  bool fit_temperature = false;    // retrieve only
+  // Absorption model key of the retrieval; unset: the stored retrieval's, or p676.
+  std::optional<std::string> absorption_model;
+  bool fit_liquid = false;       // retrieve only
+  bool fit_temperature = false;  // retrieve only
   int threads = 0;
   bool overwrite = false;
   Format format = Format::kTable;
@@ -33,7 +35,8 @@ struct CommonOptions {
   std::string thresholds_file;
 };
 
-// Registers night, -o, --site, --window-s, --threads, --overwrite and --format.
+// Registers night, -o, --site, --window-s, --absorption-model, --threads, --overwrite and
+// --format.
 void add_common(CLI::App& cmd, CommonOptions& o);
 // Registers --obs-freq-ghz.
 void add_frequency_option(CLI::App& cmd, CommonOptions& o);

@@ -4,6 +4,7 @@
 #include <nlohmann/json.hpp>
 
 #include "commands.hpp"
+#include "model_option.hpp"
 #include "output.hpp"
 #include "site_options.hpp"
 #include "wvr/sky_model.hpp"
@@ -16,12 +17,14 @@ struct SpectrumOptions {
   std::vector<double> freq_ghz;
   std::optional<double> pwv_mm;
   double elevation_deg = 90.0;
+  std::string absorption_model;
   Format format = Format::kTable;
 };
 
 void run_spectrum(const SpectrumOptions& o) {
   const wvr::AtmosphereProfile profile = o.site.profile(o.pwv_mm);
-  const wvr::SkySpectrum s = wvr::SkyModel().spectrum(profile, o.freq_ghz, o.elevation_deg);
+  const wvr::SkySpectrum s = wvr::SkyModel(wvr::make_absorption_model(o.absorption_model))
+                                 .spectrum(profile, o.freq_ghz, o.elevation_deg);
   if (o.format == Format::kJson) {
     nlohmann::ordered_json j;
     j["freq_ghz"] = s.freq_ghz;
@@ -68,6 +71,7 @@ void add_spectrum_command(CLI::App& app) {
   cmd->add_option("--elevation-deg", options->elevation_deg, "Elevation (deg, 5-90)")
       ->capture_default_str();
   options->site.add_to(*cmd);
+  add_absorption_model_option(*cmd, options->absorption_model);
   add_format_option(*cmd, options->format);
   cmd->callback([options] { run_spectrum(*options); });
 }

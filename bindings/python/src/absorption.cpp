@@ -29,7 +29,9 @@ void require_each_in_range(const DoubleArray& array,
 py::dict absorption(const py::handle& freq_ghz,
                     const py::handle& dry_pressure_hpa,
                     const py::handle& temperature_k,
-                    const py::handle& vapour_density_g_m3) {
+                    const py::handle& vapour_density_g_m3,
+                    const std::string& absorption_model) {
+  const auto model = make_absorption_model(absorption_model);
   const DoubleArray f_in = as_double_array(freq_ghz, "freq_ghz");
   const DoubleArray p_in = as_double_array(dry_pressure_hpa, "dry_pressure_hpa");
   const DoubleArray t_in = as_double_array(temperature_k, "temperature_k");
@@ -50,7 +52,6 @@ py::dict absorption(const py::handle& freq_ghz,
   py::array_t<double> oxygen(shape), water(shape), total(shape);
   const std::size_t n = static_cast<std::size_t>(f.size());
   {
-    const auto model = make_p676_annex1_model();
     const double* fv = f.data();
     const double* pv = p.data();
     const double* tv = t.data();
@@ -93,8 +94,10 @@ py::dict absorption(const py::handle& freq_ghz,
 
 void export_absorption(py::module_& m) {
   m.def("absorption", &absorption, py::arg("freq_ghz"), py::arg("dry_pressure_hpa"),
-        py::arg("temperature_k"), py::arg("vapour_density_g_m3"), R"doc(
-Specific attenuation of ITU-R P.676-13 Annex 1 (line by line, 1-1000 GHz) in dB/km.
+        py::arg("temperature_k"), py::arg("vapour_density_g_m3"), py::kw_only(),
+        py::arg("absorption_model") = std::string(kDefaultAbsorptionModel), R"doc(
+Specific attenuation of ITU-R P.676-13 Annex 1 (line by line, 1-1000 GHz) in dB/km, or with
+absorption_model="r17" the Rosenkranz (2017) water vapour beside P.676 oxygen.
 
 Arguments broadcast against each other like numpy arrays: frequency (GHz), dry-air pressure
 (hPa; total pressure = dry + vapour, the P.676 convention), temperature (K) and water-vapour
@@ -104,8 +107,14 @@ continuum), gamma_water_db_per_km (water-vapour lines) and gamma_total_db_per_km
 Raises WvrValueError naming the first element out of range or not finite.
 )doc");
   m.def(
-      "absorption_model_name", [] { return make_p676_annex1_model()->name(); },
-      "Name and source of the gaseous absorption model used by SkyModel.");
+      "absorption_model_name",
+      [](const std::string& key) { return make_absorption_model(key)->name(); },
+      py::arg("absorption_model") = std::string(kDefaultAbsorptionModel),
+      "Name and source of a gaseous absorption model (\"p676\", the default of SkyModel, or "
+      "\"r17\").");
+  m.def(
+      "absorption_model_keys", [] { return absorption_model_keys(); },
+      "Keys of the selectable absorption models.");
 }
 
 }  // namespace wvr::python

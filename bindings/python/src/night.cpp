@@ -295,11 +295,35 @@ CalibratorPhases phases_from_python(const py::handle& phases) {
 }
 
 std::optional<NightTruth> truth_from_python(const py::handle& truth,
-                                            const std::vector<py::ssize_t>& antenna_time) {
+                                            const std::vector<py::ssize_t>& antenna_time,
+                                            const std::vector<py::ssize_t>& antenna_channel) {
   if (truth.is_none()) return std::nullopt;
   const py::dict d =
-      dict_with_keys(truth, field("/truth"), {"wet_path_m", "dry_path_m", "pwv_mm"}, {"episodes"});
+      dict_with_keys(truth, field("/truth"), {"wet_path_m", "dry_path_m", "pwv_mm"},
+                     {"episodes", "true_sky", "calibration_offset_k", "calibration_gain",
+                      "calibration_offset_drift_k_per_hour", "calibration_gain_drift_per_hour"});
   NightTruth out;
+  if (d.contains("true_sky") && !d["true_sky"].is_none()) {
+    if (!py::isinstance<py::dict>(d["true_sky"]))
+      throw InvalidInput(field("/truth/true_sky") + ": expected a dict of name -> text");
+    for (const auto& [name, value] : d["true_sky"].cast<py::dict>()) {
+      out.sky_differences.emplace_back(text_of(name, field("/truth/true_sky")),
+                                       text_of(value, field("/truth/true_sky")));
+    }
+  }
+  if (d.contains("calibration_offset_k")) {
+    for (const auto& [key, target] :
+         {std::pair{"calibration_offset_k", &out.calibration_offset_k},
+          std::pair{"calibration_gain", &out.calibration_gain},
+          std::pair{"calibration_offset_drift_k_per_hour",
+                    &out.calibration_offset_drift_k_per_hour},
+          std::pair{"calibration_gain_drift_per_hour", &out.calibration_gain_drift_per_hour}}) {
+      if (!d.contains(key))
+        throw InvalidInput(field("/truth") + ": " + key + " missing beside calibration_offset_k");
+      *target = doubles_of_shape(d[key], field(std::string("/truth/") + key), antenna_channel,
+                                 "[antenna, channel]");
+    }
+  }
   out.wet_path_m = doubles_of_shape(d["wet_path_m"], field("/truth/wet_path_m"), antenna_time,
                                     "[antenna, time]");
   out.dry_path_m = doubles_of_shape(d["dry_path_m"], field("/truth/dry_path_m"), antenna_time,
@@ -389,7 +413,8 @@ Night night_from_arrays(const std::string& time_epoch_utc,
   night.scans = scans_from_python(scans);
   night.weather = weather_from_python(weather);
   night.calibrator_phases = phases_from_python(calibrator_phases);
-  night.truth = truth_from_python(truth, {a, t});
+  night.truth =
+      truth_from_python(truth, {a, t}, {a, static_cast<py::ssize_t>(radiometer.channels.size())});
   night.results = groups_from_python(results);
   validate_night(night, "night");
   return night;
@@ -457,6 +482,19 @@ py::object truth_to_python(const py::object& self) {
     episodes.append(e);
   }
   d["episodes"] = episodes;
+  py::dict sky;
+  for (const auto& [name, value] : truth.sky_differences) sky[py::str(name)] = value;
+  d["true_sky"] = sky;
+  if (!truth.calibration_offset_k.empty()) {
+    const std::vector<py::ssize_t> per_channel = {static_cast<py::ssize_t>(night.antenna_count()),
+                                                  static_cast<py::ssize_t>(night.channel_count())};
+    d["calibration_offset_k"] = read_only_view(truth.calibration_offset_k, per_channel, self);
+    d["calibration_gain"] = read_only_view(truth.calibration_gain, per_channel, self);
+    d["calibration_offset_drift_k_per_hour"] =
+        read_only_view(truth.calibration_offset_drift_k_per_hour, per_channel, self);
+    d["calibration_gain_drift_per_hour"] =
+        read_only_view(truth.calibration_gain_drift_per_hour, per_channel, self);
+  }
   return d;
 }
 
@@ -840,8 +878,11 @@ phase_rad [P] (rad, phase of antenna_pair[:, 1] minus antenna_pair[:, 0]), freq_
 )doc")
       .def_property_readonly("truth", &truth_to_python, R"doc(
 None for observed nights; for simulated ones a dict of [A, T] arrays wet_path_m (m),
-dry_path_m (m), pwv_mm (mm) and episodes, a list of dicts start_s, stop_s (s), antenna (index
-or -1 for the whole array), label.
+dry_path_m (m), pwv_mm (mm), episodes, a list of dicts start_s, stop_s (s), antenna (index
+or -1 for the whole array), label, true_sky (dict name -> text: how the sky that made the
+night differs from its site model) and, when the radiometers had calibration errors, [A, C]
+arrays calibration_offset_k (K), calibration_gain, calibration_offset_drift_k_per_hour (K/h)
+and calibration_gain_drift_per_hour (1/h).
 )doc")
       .def_property_readonly("results", &results_of, R"doc(
 Result groups: dict stage -> wvr.ResultGroup (name -> read-only array, with .units and

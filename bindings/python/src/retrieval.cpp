@@ -389,13 +389,15 @@ NightRetrieval retrieve(const Night& night,
                         double coefficient_window_s,
                         bool fit_liquid,
                         bool fit_temperature_offset,
-                        int threads) {
+                        int threads,
+                        const std::string& absorption_model) {
   if (threads < 0) throw InvalidInput("threads = " + std::to_string(threads) + " must be >= 0");
   NightRetrievalOptions options;
   options.coefficient_window_s = coefficient_window_s;
   options.window_fit.fit_liquid = fit_liquid;
   options.window_fit.fit_temperature_offset = fit_temperature_offset;
   options.threads = threads;
+  options.absorption_model = absorption_model;
   options.validate();
   const ResolvedSite resolved = resolve_night_site(night, site);
   py::gil_scoped_release release;
@@ -629,14 +631,15 @@ chi2_per_dof_median and path_sensitivity_k_per_mm [C] (K/mm, median over antenna
 
   m.def("retrieve_night", &retrieve, py::arg("night"), py::arg("site") = py::none(), py::kw_only(),
         py::arg("coefficient_window_s") = 60.0, py::arg("fit_liquid") = false,
-        py::arg("fit_temperature_offset") = false, py::arg("threads") = 0, R"doc(
+        py::arg("fit_temperature_offset") = false, py::arg("threads") = 0,
+        py::arg("absorption_model") = std::string(kDefaultAbsorptionModel), R"doc(
 Retrieves every antenna of night (wvr.Night) on the atmosphere shape of site (wvr.SiteConfig;
 None: the night's own site record, or defaults from its weather and array height):
 per sample the table inversion at the sample's elevation and the surface temperature of the
 night's weather (the site's when there is none), per coefficient_window_s (s) window the full
 fit of the window's mean brightness (fitting cloud liquid / a temperature offset on request)
-and the path coefficients. threads: 0 = all cores; results do not depend on it. Releases the
-GIL. Returns a NightRetrieval. Raises WvrValueError for bad options.
+and the path coefficients, with the absorption model absorption_model ("p676" or "r17").
+threads: 0 = all cores; results do not depend on it. Releases the GIL. Returns a NightRetrieval. Raises WvrValueError for bad options.
 )doc");
 }
 

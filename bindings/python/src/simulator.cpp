@@ -107,8 +107,22 @@ changed copy. Simulate it with wvr.simulate_night.
       .def_readonly("pwv_mm", &Scenario::pwv_mm, "Mean zenith PWV at the start (mm).")
       .def_readonly("pwv_drift_mm_per_hour", &Scenario::pwv_drift_mm_per_hour,
                     "Linear drift of the mean PWV (mm/h).")
-      .def_readonly("water_continuum_scale", &Scenario::water_continuum_scale,
-                    "The sky's water continuum relative to the retrieval model's (1 = same).")
+      .def_property_readonly(
+          "water_continuum_scale",
+          [](const Scenario& s) { return s.true_sky.water_continuum_scale; },
+          "The sky's water continuum relative to the retrieval model's (1 = same).")
+      .def_property_readonly(
+          "true_sky",
+          [](const Scenario& s) {
+            py::dict out;
+            for (const auto& [name, value] : s.true_sky.describe()) out[py::str(name)] = value;
+            return out;
+          },
+          R"doc(
+How the sky that makes the night differs from the site model (the scenario's [true_sky]): a
+dict of name -> value text, e.g. {"absorption_model": "r17", "calibration_gain_sigma": "0.02"};
+empty when the model makes the night.
+)doc")
       .def_property_readonly(
           "obs_freq_ghz", [](const Scenario& s) { return s.observing.obs_freq_ghz; },
           "Sky frequency the array observes at (GHz).")

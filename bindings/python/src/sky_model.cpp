@@ -26,14 +26,15 @@ SkyModel make_sky_model(const std::string& geometry,
                         double cosmic_background_k,
                         const std::string& refractivity,
                         double min_elevation_deg,
-                        double water_continuum_scale) {
+                        double water_continuum_scale,
+                        const std::string& absorption_model) {
   SkyOptions options;
   options.geometry = geometry_by_name(geometry);
   options.refraction = refraction;
   options.cosmic_background_k = cosmic_background_k;
   options.refractivity = refractivity_by_name(refractivity);
   options.min_elevation_deg = min_elevation_deg;
-  return SkyModel(make_p676_annex1_model(water_continuum_scale), options);
+  return SkyModel(make_absorption_model(absorption_model, water_continuum_scale), options);
 }
 
 template <typename Result>
@@ -116,19 +117,22 @@ void export_sky_model(py::module_& m) {
       });
 
   py::class_<SkyModel>(m, "SkyModel", R"doc(
-Line-by-line sky emission model (ITU-R P.676-13 Annex 1 gases, ITU-R P.840-9 cloud liquid):
+Line-by-line sky emission model (ITU-R P.676-13 Annex 1 gases by default, or Rosenkranz 2017
+water vapour; ITU-R P.840-9 cloud liquid):
 upward-looking radiative transfer through a layered profile along the (refracted) slant path.
 )doc")
       .def(py::init(&make_sky_model), py::kw_only(), py::arg("geometry") = "spherical",
            py::arg("refraction") = true, py::arg("cosmic_background_k") = 2.725,
            py::arg("refractivity") = "thayer_1974", py::arg("min_elevation_deg") = 5.0,
-           py::arg("water_continuum_scale") = 1.0, R"doc(
+           py::arg("water_continuum_scale") = 1.0,
+           py::arg("absorption_model") = std::string(kDefaultAbsorptionModel), R"doc(
 geometry: "spherical" (concentric shells) or "plane_parallel" (no refraction, for
 comparisons); refraction: bend the ray by Bouguer's invariant (spherical only);
 cosmic_background_k: background brightness (K); refractivity: "thayer_1974" or "bevis_1994"
 constants; min_elevation_deg: lowest accepted elevation (deg); water_continuum_scale: factor on
-the strength of P.676's water-vapour continuum (1 = the Recommendation), to simulate skies that
-differ from a retrieval's model.
+the strength of the model's water-vapour continuum (1 = as published), to simulate skies that
+differ from a retrieval's model; absorption_model: "p676" (ITU-R P.676-13 Annex 1) or "r17"
+(Rosenkranz 2017 water vapour with P.676 oxygen and dry continuum).
 )doc")
       .def_property_readonly("geometry",
                              [](const SkyModel& s) { return geometry_name(s.options().geometry); })

@@ -163,8 +163,11 @@ def absorption(
     dry_pressure_hpa: ArrayLike,  # hPa, dry-air partial pressure (P.676 convention)
     temperature_k: ArrayLike,  # K
     vapour_density_g_m3: ArrayLike,  # g/m^3; e = rho T / 216.7 hPa
-) -> GasAttenuation: ...  # ITU-R P.676-13 Annex 1; broadcasting
-def absorption_model_name() -> str: ...
+    *,
+    absorption_model: str = "p676",  # or "r17" (Rosenkranz 2017 water vapour)
+) -> GasAttenuation: ...  # ITU-R P.676-13 Annex 1 (or R17 water); broadcasting
+def absorption_model_name(absorption_model: str = "p676") -> str: ...
+def absorption_model_keys() -> List[str]: ...
 def cloud_liquid_specific_attenuation(
     freq_ghz: ArrayLike, temperature_k: ArrayLike
 ) -> Union[float, FloatArray]: ...  # (dB/km)/(g/m^3), ITU-R P.840-9; broadcasting
@@ -314,7 +317,8 @@ class SkyModel:
         cosmic_background_k: float = 2.725,  # K
         refractivity: str = "thayer_1974",  # or "bevis_1994"
         min_elevation_deg: float = 5.0,  # deg
-        water_continuum_scale: float = 1.0,  # factor on P.676's water-vapour continuum
+        water_continuum_scale: float = 1.0,  # factor on the model's water-vapour continuum
+        absorption_model: str = "p676",  # or "r17" (Rosenkranz 2017 water vapour)
     ) -> None: ...
     @property
     def geometry(self) -> str: ...
@@ -639,6 +643,8 @@ class Scenario:
     @property
     def water_continuum_scale(self) -> float: ...
     @property
+    def true_sky(self) -> Dict[str, str]: ...
+    @property
     def obs_freq_ghz(self) -> float: ...  # GHz
     @property
     def clouds(self) -> List[CloudDict]: ...
@@ -858,6 +864,7 @@ def retrieve_night(
     fit_liquid: bool = False,
     fit_temperature_offset: bool = False,
     threads: int = 0,  # 0 = all cores
+    absorption_model: str = "p676",  # or "r17"
 ) -> NightRetrieval: ...  # releases the GIL
 
 class StructureFunctionEstimate:

@@ -9,6 +9,7 @@
 #include <memory>
 #include <span>
 #include <string>
+#include <vector>
 
 namespace wvr {
 
@@ -60,6 +61,25 @@ std::shared_ptr<const AbsorptionModel> make_p676_annex1_model();
 // water-vapour continuum) multiplied by water_continuum_scale, e.g. 1.12 for a continuum 12 %
 // stronger: used to simulate skies that differ from the retrieval's model.
 std::shared_ptr<const AbsorptionModel> make_p676_annex1_model(double water_continuum_scale);
+
+// Water vapour of the Rosenkranz (2017) model (15 lines up to 916 GHz with a 750 GHz
+// local-line cutoff, and its own self and foreign continuum, scaled by water_continuum_scale),
+// with oxygen and the dry continuum of ITU-R P.676-13 Annex 1. Sources and formulas in
+// testdata/reference/rosenkranz-2017/README.md. Valid 1-1000 GHz.
+std::shared_ptr<const AbsorptionModel> make_rosenkranz2017_model(
+    double water_continuum_scale = 1.0);
+
+// Short keys of the selectable models: "p676" (ITU-R P.676-13, the default everywhere) and
+// "r17" (Rosenkranz 2017 water vapour).
+inline constexpr const char* kDefaultAbsorptionModel = "p676";
+const std::vector<std::string>& absorption_model_keys();
+
+// The model named by its key, its water-vapour continuum scaled by water_continuum_scale.
+// Throws InvalidInput naming `field` and the value for an unknown key.
+std::shared_ptr<const AbsorptionModel> make_absorption_model(
+    const std::string& key,
+    double water_continuum_scale = 1.0,
+    const std::string& field = "absorption_model");
 
 // Specific attenuation in dB/km (the P.676 unit) from a coefficient in Np/m.
 inline double db_per_km_from_np_per_m(double np_per_m) { return np_per_m * 4342.944819032518; }

@@ -100,6 +100,14 @@ struct NightTruth {
   std::vector<double> dry_path_m;  // [antenna, time], row-major
   std::vector<double> pwv_mm;      // [antenna, time], row-major
   std::vector<TruthEpisode> episodes;
+  // Radiometer calibration errors applied to the brightness, [antenna, channel] (empty when
+  // none): reported = (1 + gain + gain_drift h) T_sky + offset + offset_drift h, h = hours
+  // since the first sample.
+  std::vector<double> calibration_offset_k, calibration_gain;
+  std::vector<double> calibration_offset_drift_k_per_hour, calibration_gain_drift_per_hour;
+  // How the sky that made the brightness differs from the night's site model, as name and
+  // value (e.g. {"absorption_model", "r17"}); empty when the model made the night.
+  std::vector<std::pair<std::string, std::string>> sky_differences;
 };
 
 // Values of a result dataset; the alternative chosen is the dataset's HDF5 type.

@@ -16,6 +16,7 @@
 #include <string>
 #include <vector>
 
+#include "wvr/absorption.hpp"
 #include "wvr/atmosphere.hpp"
 #include "wvr/night.hpp"
 #include "wvr/pwv_table.hpp"
@@ -47,6 +48,8 @@ struct NightRetrievalOptions {
   RetrievalOptions window_fit;  // options of the window full fits
   PwvTableOptions table;        // temperature range is set from the night's weather
   int threads = 0;              // 0 = all hardware threads
+  // Key of the gaseous absorption model (make_absorption_model): "p676" or "r17".
+  std::string absorption_model = kDefaultAbsorptionModel;
 
   void validate() const;
 };
@@ -69,6 +72,7 @@ struct NightRetrieval {
   std::vector<double> window_model_brightness_k;
   std::vector<double> window_wet_path_mm;
   std::vector<double> window_elevation_deg;  // [antenna, window], mean of the used samples
+  std::string model;                         // name of the absorption model used
   double seconds = 0.0;
 };
 

@@ -5,11 +5,13 @@
 
 #include <cstdint>
 #include <filesystem>
+#include <optional>
 #include <string>
 #include <utility>
 #include <vector>
 
 #include "wvr/array_layout.hpp"
+#include "wvr/atmosphere.hpp"
 #include "wvr/phase_screen.hpp"
 #include "wvr/radiometer.hpp"
 #include "wvr/site_config.hpp"
@@ -59,6 +61,35 @@ struct RadiometerFault {
   double magnitude = 0.0;
 };
 
+// Calibration errors of the radiometers, drawn per antenna and channel from zero-mean Gaussians
+// of these spreads (seeded by the scenario seed): a radiometer reports
+//   (1 + gain + gain_drift h) T_sky + offset + offset_drift h,   h = hours since the start.
+struct CalibrationErrorSpec {
+  double offset_sigma_k = 0.0;
+  double gain_sigma = 0.0;  // fraction, e.g. 0.02 for 2 %
+  double offset_drift_sigma_k_per_hour = 0.0;
+  double gain_drift_sigma_per_hour = 0.0;
+
+  bool any() const;
+};
+
+// The sky that makes the night, where it differs from the site model the retrieval will use
+// (the scenario's site file, which the night records). Unset fields follow the site file.
+struct TrueSky {
+  std::string absorption_model = "p676";  // a key of make_absorption_model
+  double water_continuum_scale = 1.0;     // the sky's water continuum relative to the model's
+  std::optional<double> lapse_rate_k_per_km;
+  std::optional<double> water_scale_height_m;
+  std::optional<Inversion> inversion;
+  CalibrationErrorSpec calibration;
+
+  // The site parameters of the true sky's profile.
+  SiteParameters apply_to(const SiteParameters& site) const;
+  // How the true sky differs from the site model, as "name = value" pairs for the truth
+  // record (empty when it does not).
+  std::vector<std::pair<std::string, std::string>> describe() const;
+};
+
 struct ObservingPattern {
   double obs_freq_ghz = 230.0;
   double calibrator_scan_s = 60.0;
@@ -80,9 +111,7 @@ struct Scenario {
   ArrayLayoutSpec array;
   double pwv_mm = 1.0;
   double pwv_drift_mm_per_hour = 0.0;
-  // The sky's water continuum relative to the retrieval model's (1 = identical); > 1 makes
-  // brightness the model cannot fully explain (a mis-scaled sky).
-  double water_continuum_scale = 1.0;
+  TrueSky true_sky;
   double cloud_base_above_ground_m = 1000.0;
   double cloud_thickness_m = 1000.0;
   SourceTrack source;

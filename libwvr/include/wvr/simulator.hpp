@@ -12,14 +12,18 @@
 //    zenith wet path per mm of PWV; the vapour profile keeps its shape. Dry layers change the
 //    path only.
 // 4. Brightness: FastSkyModel (exact to < 0.02 K) at that PWV, elevation and cloud liquid,
-//    built on a sky whose water continuum may be scaled (water_continuum_scale), plus Gaussian
-//    channel noise and the scenario's radiometer faults.
+//    built on the scenario's true sky (TrueSky: its absorption model and water continuum
+//    scale, and a lapse rate, vapour scale height or inversion that may differ from the site
+//    file the night records for the retrieval), plus Gaussian channel noise, the radiometers'
+//    calibration errors (offset and gain per antenna and channel, drifting linearly) and the
+//    scenario's radiometer faults.
 // 5. Calibrator phases during calibrator scans: 2 pi nu / c times the baseline difference of
 //    true slant path (wet path times the dispersion factor of wvr/dispersion.hpp, plus dry)
 //    plus thermal noise, wrapped to (-pi, pi].
 // 6. Truth: slant wet path (including the mean column), slant dry-air fluctuation path (the
 //    hydrostatic mean, common to all antennas, is left out), line-of-sight PWV, and labelled
-//    episodes (clouds, faults, labelled turbulence).
+//    episodes (clouds, faults, labelled turbulence), the calibration errors and how the true
+//    sky differs from the site model.
 // Deterministic for a given scenario seed, whatever the thread count.
 
 #include "wvr/night.hpp"

@@ -9,6 +9,14 @@
 
 namespace wvr::detail {
 
+// /radiometer attribute naming the brightness convention of brightness_k; libwvr writes
+// "rayleigh_jeans_equivalent" (wvr/brightness_convention.hpp).
+inline constexpr const char* kBrightnessConventionAttribute = "brightness_convention";
+
+// Prefix of the /truth attributes that describe how the true sky differs from the site model
+// ("true_sky.absorption_model" = "r17").
+inline constexpr const char* kTrueSkyAttributePrefix = "true_sky.";
+
 // Shortest text that reads back to the same double ("512", "0.1", "nan").
 std::string format_number(double value);
 

@@ -7,6 +7,7 @@
 #include "night/night_file_detail.hpp"
 #include "night/night_file_h5.hpp"
 #include "night/night_file_site.hpp"
+#include "wvr/brightness_convention.hpp"
 #include "wvr/error.hpp"
 #include "wvr/night_file.hpp"
 
@@ -107,6 +108,17 @@ void read_radiometer(const Reader& reader, Night& night, Dims& dims) {
   night.radiometer.brightness_k =
       reader.read_doubles("/radiometer/brightness_k", {dims.antenna, dims.time, dims.channel}, "K");
   night.radiometer.valid = reader.read_uint8s("/radiometer/valid", {dims.antenna, dims.time}, "1");
+  // Files written before the attribute existed hold Rayleigh-Jeans-equivalent brightness.
+  const char* attribute = detail::kBrightnessConventionAttribute;
+  if (reader.has_attribute(group.get(), attribute)) {
+    const std::string name = reader.string_attribute(group.get(), "/radiometer", attribute);
+    if (name == to_string(BrightnessConvention::kPlanck)) {
+      planck_to_rj_equivalent(config, night.radiometer.brightness_k);
+    } else if (name != to_string(BrightnessConvention::kRayleighJeansEquivalent)) {
+      reader.fail("/radiometer", std::string("attribute ") + attribute + " = \"" + name +
+                                     "\" is not \"rayleigh_jeans_equivalent\" or \"planck\"");
+    }
+  }
 }
 
 void read_pointing(const Reader& reader, Night& night, const Dims& dims) {
@@ -173,8 +185,23 @@ void read_calibrator_phases(const Reader& reader, Night& night) {
 
 void read_truth(const Reader& reader, Night& night, const Dims& dims) {
   if (!reader.exists("/truth")) return;
-  reader.open_group("/truth");
+  const Id group = reader.open_group("/truth");
   NightTruth truth;
+  for (const std::string& name : reader.attribute_names(group.get(), "/truth")) {
+    if (name.rfind(detail::kTrueSkyAttributePrefix, 0) != 0) continue;
+    truth.sky_differences.emplace_back(
+        name.substr(std::string(detail::kTrueSkyAttributePrefix).size()),
+        reader.string_attribute(group.get(), "/truth", name));
+  }
+  if (reader.exists("/truth/calibration_offset_k")) {
+    const std::vector<Axis> axes = {dims.antenna, dims.channel};
+    truth.calibration_offset_k = reader.read_doubles("/truth/calibration_offset_k", axes, "K");
+    truth.calibration_gain = reader.read_doubles("/truth/calibration_gain", axes, "1");
+    truth.calibration_offset_drift_k_per_hour =
+        reader.read_doubles("/truth/calibration_offset_drift_k_per_hour", axes, "K/h");
+    truth.calibration_gain_drift_per_hour =
+        reader.read_doubles("/truth/calibration_gain_drift_per_hour", axes, "1/h");
+  }
   truth.wet_path_m = reader.read_doubles("/truth/wet_path_m", {dims.antenna, dims.time}, "m");
   truth.dry_path_m = reader.read_doubles("/truth/dry_path_m", {dims.antenna, dims.time}, "m");
   truth.pwv_mm = reader.read_doubles("/truth/pwv_mm", {dims.antenna, dims.time}, "mm");

@@ -344,6 +344,19 @@ void check_truth(const Checker& check, const Night& night) {
   check.finite("/truth/wet_path_m", truth.wet_path_m, dims);
   check.finite("/truth/dry_path_m", truth.dry_path_m, dims);
   check.in_range("/truth/pwv_mm", truth.pwv_mm, dims, 0.0, 1.0e3, "mm");
+  if (!truth.calibration_offset_k.empty() || !truth.calibration_gain.empty()) {
+    const std::vector<std::size_t> per_channel = {night.antenna_count(), night.channel_count()};
+    for (const auto& [path, values] :
+         {std::pair{"/truth/calibration_offset_k", &truth.calibration_offset_k},
+          std::pair{"/truth/calibration_gain", &truth.calibration_gain},
+          std::pair{"/truth/calibration_offset_drift_k_per_hour",
+                    &truth.calibration_offset_drift_k_per_hour},
+          std::pair{"/truth/calibration_gain_drift_per_hour",
+                    &truth.calibration_gain_drift_per_hour}}) {
+      check.size(path, values->size(), "[antenna, channel]", per_channel);
+      check.finite(path, *values, per_channel);
+    }
+  }
   const auto antennas = static_cast<std::int64_t>(night.antenna_count());
   for (std::size_t i = 0; i < truth.episodes.size(); ++i) {
     const TruthEpisode& episode = truth.episodes[i];

@@ -23,6 +23,7 @@
 #include "night/night_file_detail.hpp"
 #include "night/night_file_h5.hpp"
 #include "night/night_file_site.hpp"
+#include "wvr/brightness_convention.hpp"
 #include "wvr/error.hpp"
 #include "wvr/night_file.hpp"
 
@@ -202,6 +203,9 @@ void write_radiometer_group(const Writer& writer, const Night& night) {
   Id group = writer.create_group(writer.file(), "/radiometer", false);
   writer.string_attribute(group.get(), "/radiometer", "name", config.name);
   writer.double_attribute(group.get(), "/radiometer", "lo_freq_ghz", config.lo_freq_ghz);
+  // The in-memory night always holds Rayleigh-Jeans-equivalent brightness.
+  writer.string_attribute(group.get(), "/radiometer", detail::kBrightnessConventionAttribute,
+                          to_string(BrightnessConvention::kRayleighJeansEquivalent));
   writer.int_attribute(group.get(), "/radiometer", "quadrature_points_per_sideband",
                        config.quadrature_points_per_sideband);
   writer.create_group(writer.file(), "/radiometer/channels", false);
@@ -296,7 +300,20 @@ void write_calibrator_phases_group(const Writer& writer, const Night& night) {
 void write_truth_group(const Writer& writer, const Night& night) {
   if (!night.truth) return;
   const NightTruth& truth = *night.truth;
-  writer.create_group(writer.file(), "/truth", false);
+  const Id group = writer.create_group(writer.file(), "/truth", false);
+  for (const auto& [name, value] : truth.sky_differences)
+    writer.string_attribute(group.get(), "/truth", detail::kTrueSkyAttributePrefix + name, value);
+  if (!truth.calibration_offset_k.empty()) {
+    const Shape per_channel = shape_of({night.antenna_count(), night.channel_count()});
+    write_doubles(writer, "/truth/calibration_offset_k", truth.calibration_offset_k, per_channel,
+                  false, "K");
+    write_doubles(writer, "/truth/calibration_gain", truth.calibration_gain, per_channel, false,
+                  "1");
+    write_doubles(writer, "/truth/calibration_offset_drift_k_per_hour",
+                  truth.calibration_offset_drift_k_per_hour, per_channel, false, "K/h");
+    write_doubles(writer, "/truth/calibration_gain_drift_per_hour",
+                  truth.calibration_gain_drift_per_hour, per_channel, false, "1/h");
+  }
   const Shape shape = shape_of({night.antenna_count(), night.time_count()});
   write_doubles(writer, "/truth/wet_path_m", truth.wet_path_m, shape, true, "m");
   write_doubles(writer, "/truth/dry_path_m", truth.dry_path_m, shape, true, "m");

@@ -3,6 +3,7 @@
 #include <iomanip>
 #include <sstream>
 
+#include "wvr/brightness_convention_check.hpp"
 #include "wvr/error.hpp"
 
 namespace wvr {
@@ -101,6 +102,7 @@ std::string retrieval_processing_key(const NightRetrievalOptions& o) {
       .add("fit_liquid", o.window_fit.fit_liquid)
       .add("fit_temperature_offset", o.window_fit.fit_temperature_offset)
       .add("calibration_terms", static_cast<int>(o.window_fit.calibration))
+      .add("absorption_model", o.absorption_model)
       .str();
 }
 
@@ -166,6 +168,10 @@ NightProcessingResult process_night(const Night& night, const NightProcessingOpt
     r.retrieval = retrieve_night(night, r.site.site.parameters, retrieval_options);
     r.result_groups.push_back(to_result_group(r.retrieval, night));
     with_keys(r.result_groups.back(), retrieval_processing_key(retrieval_options), site_key);
+  }
+  if (const BrightnessConventionCheck convention = check_brightness_convention(night, r.retrieval);
+      convention.looks_like_other_convention) {
+    r.notes.push_back("warning: " + convention.message);
   }
   r.coefficients = CoefficientWindows::from_retrieval(r.retrieval);
   r.paths = compute_wvr_paths(night, r.coefficients);

@@ -35,6 +35,7 @@ void NightRetrievalOptions::validate() const {
   require_in_range("coefficient_window_s", coefficient_window_s, 1e-3, 86400.0, "s");
   window_fit.validate();
   if (threads < 0) throw InvalidInput("threads = " + std::to_string(threads) + " is negative");
+  make_absorption_model(absorption_model, 1.0, "absorption_model");  // throws for an unknown key
 }
 
 namespace {
@@ -88,7 +89,8 @@ NightRetrieval retrieve_night(const Night& night,
   PwvTableOptions table_options = options.table;
   table_options.min_surface_temperature_k = t_lo;
   table_options.max_surface_temperature_k = t_hi;
-  const PwvTable table(site, radiometer, table_options);
+  const SkyModel sky(make_absorption_model(options.absorption_model));
+  const PwvTable table(site, radiometer, table_options, sky);
 
   // Full-fit models every 1 K: the window fit uses the nearest and the linear temperature term
   // for the remaining < 0.5 K.
@@ -97,14 +99,15 @@ NightRetrieval retrieve_night(const Night& night,
   for (double t = t_lo; t <= t_hi + 1e-9; t += 1.0) {
     SiteParameters s = site;
     s.surface_temperature_k = t;
-    models.push_back(std::make_unique<FastSkyModel>(make_parametric_profile(s), radiometer,
-                                                    SkyModel(), fast_options));
+    models.push_back(
+        std::make_unique<FastSkyModel>(make_parametric_profile(s), radiometer, sky, fast_options));
   }
 
   NightRetrieval out;
   out.antennas = na;
   out.samples = nt;
   out.channels = nc;
+  out.model = sky.absorption_model().name();
   const double t0 = night.radiometer.time_s.front();
   const double t_end = night.radiometer.time_s.back();
   const double window = options.coefficient_window_s;
@@ -294,7 +297,7 @@ std::size_t axis_extent(const NightRetrieval& r, char axis) {
 ResultGroup to_result_group(const NightRetrieval& r, const Night& night) {
   ResultGroup g;
   g.stage = "retrieval";
-  g.attributes["model"] = SkyModel().absorption_model().name();
+  g.attributes["model"] = r.model;
   g.attributes["method"] = "per sample: table inversion; per window: full fit of the window mean";
   g.attributes["flag_bits"] =
       "1 invalid in file, 2 bad brightness, 4 out of domain, 8 no weather, 16 fit failed, 32 no "
@@ -319,6 +322,7 @@ NightRetrieval retrieval_from_result_group(const ResultGroup& g) {
   r.windows = weights->shape[1];
   r.channels = weights->shape[2];
   detail::read_result_fields(g, r, night_retrieval_fields());
+  if (const auto it = g.attributes.find("model"); it != g.attributes.end()) r.model = it->second;
   return r;
 }
 

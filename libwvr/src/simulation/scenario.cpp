@@ -2,8 +2,11 @@
 
 #include <algorithm>
 #include <cmath>
+#include <iomanip>
+#include <sstream>
 
 #include "core/config_text.hpp"
+#include "wvr/absorption.hpp"
 #include "wvr/error.hpp"
 
 namespace wvr {
@@ -53,6 +56,52 @@ std::string to_string(FaultKind kind) {
   return "unknown";
 }
 
+bool CalibrationErrorSpec::any() const {
+  return offset_sigma_k != 0.0 || gain_sigma != 0.0 || offset_drift_sigma_k_per_hour != 0.0 ||
+         gain_drift_sigma_per_hour != 0.0;
+}
+
+SiteParameters TrueSky::apply_to(const SiteParameters& site) const {
+  SiteParameters out = site;
+  if (lapse_rate_k_per_km) out.lapse_rate_k_per_km = *lapse_rate_k_per_km;
+  if (water_scale_height_m) out.water_scale_height_m = *water_scale_height_m;
+  if (inversion) out.inversion = *inversion;
+  return out;
+}
+
+std::vector<std::pair<std::string, std::string>> TrueSky::describe() const {
+  std::vector<std::pair<std::string, std::string>> out;
+  auto number = [](double v) {
+    std::ostringstream text;
+    text << std::setprecision(10) << v;
+    return text.str();
+  };
+  if (absorption_model != kDefaultAbsorptionModel)
+    out.emplace_back("absorption_model", absorption_model);
+  if (water_continuum_scale != 1.0)
+    out.emplace_back("water_continuum_scale", number(water_continuum_scale));
+  if (lapse_rate_k_per_km) out.emplace_back("lapse_rate_k_per_km", number(*lapse_rate_k_per_km));
+  if (water_scale_height_m) out.emplace_back("water_scale_height_m", number(*water_scale_height_m));
+  if (inversion) {
+    out.emplace_back("inversion_base_above_ground_m", number(inversion->base_above_ground_m));
+    out.emplace_back("inversion_depth_m", number(inversion->depth_m));
+    out.emplace_back("inversion_temperature_jump_k", number(inversion->temperature_jump_k));
+  }
+  if (calibration.offset_sigma_k != 0.0)
+    out.emplace_back("calibration_offset_sigma_k", number(calibration.offset_sigma_k));
+  if (calibration.gain_sigma != 0.0)
+    out.emplace_back("calibration_gain_sigma", number(calibration.gain_sigma));
+  if (calibration.offset_drift_sigma_k_per_hour != 0.0) {
+    out.emplace_back("calibration_offset_drift_sigma_k_per_hour",
+                     number(calibration.offset_drift_sigma_k_per_hour));
+  }
+  if (calibration.gain_drift_sigma_per_hour != 0.0) {
+    out.emplace_back("calibration_gain_drift_sigma_per_hour",
+                     number(calibration.gain_drift_sigma_per_hour));
+  }
+  return out;
+}
+
 std::size_t Scenario::time_count() const {
   return static_cast<std::size_t>(std::floor(duration_s / integration_s + 1e-9));
 }
@@ -68,7 +117,20 @@ void Scenario::validate() const {
     throw InvalidInput(describe_value("atmosphere.pwv_drift_mm_per_hour", pwv_drift_mm_per_hour) +
                        " drives the PWV below 0 before the night ends");
   }
-  require_in_range("atmosphere.water_continuum_scale", water_continuum_scale, 0.0, 10.0);
+  make_absorption_model(true_sky.absorption_model, 1.0, "true_sky.absorption_model");
+  require_in_range("true_sky.water_continuum_scale", true_sky.water_continuum_scale, 0.0, 10.0);
+  try {
+    true_sky.apply_to(site.parameters).validate();
+  } catch (const InvalidInput& e) {
+    throw InvalidInput(std::string("true_sky: ") + e.what());
+  }
+  const CalibrationErrorSpec& cal = true_sky.calibration;
+  require_in_range("true_sky.calibration.offset_sigma_k", cal.offset_sigma_k, 0.0, 50.0, "K");
+  require_in_range("true_sky.calibration.gain_sigma", cal.gain_sigma, 0.0, 0.5);
+  require_in_range("true_sky.calibration.offset_drift_sigma_k_per_hour",
+                   cal.offset_drift_sigma_k_per_hour, 0.0, 50.0, "K/h");
+  require_in_range("true_sky.calibration.gain_drift_sigma_per_hour", cal.gain_drift_sigma_per_hour,
+                   0.0, 0.5, "1/h");
   require_in_range("source.declination_deg", source.declination_deg, -90.0, 90.0, "deg");
   require_in_range("source.start_hour_angle_h", source.start_hour_angle_h, -12.0, 12.0, "h");
   require_in_range("observing.obs_freq_ghz", observing.obs_freq_ghz, 1.0, 1000.0, "GHz");
@@ -244,7 +306,35 @@ Scenario parse_scenario(const std::string& toml_text,
   const TomlReader atmosphere(sub_table(root, "atmosphere", source), source, "atmosphere.");
   s.pwv_mm = atmosphere.number("pwv_mm", s.pwv_mm);
   s.pwv_drift_mm_per_hour = atmosphere.number("pwv_drift_mm_per_hour", 0.0);
-  s.water_continuum_scale = atmosphere.number("water_continuum_scale", 1.0);
+  // [atmosphere] water_continuum_scale is the older spelling of [true_sky] water_continuum_scale.
+  const TomlReader true_sky(sub_table(root, "true_sky", source), source, "true_sky.");
+  if (atmosphere.table().get("water_continuum_scale") != nullptr &&
+      true_sky.table().get("water_continuum_scale") != nullptr) {
+    throw InvalidInput(source +
+                       ": atmosphere.water_continuum_scale and true_sky.water_continuum_scale "
+                       "are both set; keep true_sky.water_continuum_scale");
+  }
+  s.true_sky.water_continuum_scale =
+      true_sky.number("water_continuum_scale", atmosphere.number("water_continuum_scale", 1.0));
+  s.true_sky.absorption_model = true_sky.text("absorption_model", s.true_sky.absorption_model);
+  if (true_sky.table().get("lapse_rate_k_per_km") != nullptr)
+    s.true_sky.lapse_rate_k_per_km = true_sky.number("lapse_rate_k_per_km", 0.0);
+  if (true_sky.table().get("water_scale_height_m") != nullptr)
+    s.true_sky.water_scale_height_m = true_sky.number("water_scale_height_m", 0.0);
+  if (true_sky.table().get("inversion") != nullptr) {
+    const TomlReader inversion(sub_table(true_sky.table(), "inversion", source), source,
+                               "true_sky.inversion.");
+    s.true_sky.inversion = Inversion{inversion.required_number("base_above_ground_m"),
+                                     inversion.required_number("depth_m"),
+                                     inversion.required_number("temperature_jump_k")};
+  }
+  const TomlReader calibration(sub_table(true_sky.table(), "calibration", source), source,
+                               "true_sky.calibration.");
+  CalibrationErrorSpec& cal = s.true_sky.calibration;
+  cal.offset_sigma_k = calibration.number("offset_sigma_k", 0.0);
+  cal.gain_sigma = calibration.number("gain_sigma", 0.0);
+  cal.offset_drift_sigma_k_per_hour = calibration.number("offset_drift_sigma_k_per_hour", 0.0);
+  cal.gain_drift_sigma_per_hour = calibration.number("gain_drift_sigma_per_hour", 0.0);
   s.cloud_base_above_ground_m =
       atmosphere.number("cloud_base_above_ground_m", s.cloud_base_above_ground_m);
   s.cloud_thickness_m = atmosphere.number("cloud_thickness_m", s.cloud_thickness_m);

@@ -108,6 +108,44 @@ void apply_faults(const Scenario& s,
   }
 }
 
+// Calibration errors per [antenna, channel], drawn from the scenario's spreads.
+struct CalibrationErrors {
+  std::vector<double> offset_k, gain, offset_drift_k_per_hour, gain_drift_per_hour;
+};
+
+CalibrationErrors draw_calibration_errors(const Scenario& s,
+                                          std::size_t antennas,
+                                          std::size_t channels) {
+  const CalibrationErrorSpec& spec = s.true_sky.calibration;
+  CalibrationErrors out;
+  // Its own stream: enabling calibration errors leaves the sky noise of a scenario unchanged.
+  detail::GaussianSource random(s.seed * 2654435761ULL + 97ULL);
+  for (std::size_t i = 0; i < antennas * channels; ++i) {
+    out.offset_k.push_back(spec.offset_sigma_k * random.next());
+    out.gain.push_back(spec.gain_sigma * random.next());
+    out.offset_drift_k_per_hour.push_back(spec.offset_drift_sigma_k_per_hour * random.next());
+    out.gain_drift_per_hour.push_back(spec.gain_drift_sigma_per_hour * random.next());
+  }
+  return out;
+}
+
+// reported = (1 + gain + gain_drift h) T + offset + offset_drift h, h = hours since the start.
+void apply_calibration_errors(const CalibrationErrors& errors,
+                              std::size_t antenna,
+                              std::span<const double> time_s,
+                              std::size_t channels,
+                              std::span<double> brightness) {  // [time, channel] of this antenna
+  for (std::size_t k = 0; k < time_s.size(); ++k) {
+    const double hours = (time_s[k] - time_s.front()) / 3600.0;
+    for (std::size_t c = 0; c < channels; ++c) {
+      const std::size_t at = antenna * channels + c;
+      double& tb = brightness[k * channels + c];
+      tb = (1.0 + errors.gain[at] + errors.gain_drift_per_hour[at] * hours) * tb +
+           errors.offset_k[at] + errors.offset_drift_k_per_hour[at] * hours;
+    }
+  }
+}
+
 std::string antenna_name(std::size_t i) {
   const std::string number = std::to_string(i + 1);
   return "CV" + std::string(number.size() < 2 ? 2 - number.size() : 0, '0') + number;
@@ -125,9 +163,10 @@ Night simulate_night(const Scenario& s,
   const auto positions = make_array_layout(s.array, s.seed);
   const std::size_t na = positions.size();
 
-  // Sky model: the site's profile shape (at 1 mm; only its shape matters) and a fast model
-  // whose PWV domain covers the night.
-  SiteParameters site = s.site.parameters;
+  // Sky model: the true sky's profile shape (the site's unless the scenario's true sky says
+  // otherwise; at 1 mm, only its shape matters) and a fast model whose PWV domain covers the
+  // night.
+  SiteParameters site = s.true_sky.apply_to(s.site.parameters);
   site.pwv_mm = 1.0;
   site.surface_relative_humidity_pct.reset();
   const AtmosphereProfile shape = make_parametric_profile(site);
@@ -136,7 +175,8 @@ Night simulate_night(const Scenario& s,
   fast_options.max_pwv_mm = std::max(12.0, 2.0 * std::max(s.pwv_mm, pwv_end) + 2.0);
   fast_options.cloud_base_above_ground_m = s.cloud_base_above_ground_m;
   fast_options.cloud_thickness_m = s.cloud_thickness_m;
-  const SkyModel sky(make_p676_annex1_model(s.water_continuum_scale));
+  const SkyModel sky(
+      make_absorption_model(s.true_sky.absorption_model, s.true_sky.water_continuum_scale));
   const FastSkyModel fast(shape, s.radiometer, sky, fast_options);
   const double wet_per_pwv_zenith = fast.wet_path_per_pwv_m_per_mm(90.0);
 
@@ -221,6 +261,8 @@ Night simulate_night(const Scenario& s,
   truth.dry_path_m.resize(na * nt);
   truth.pwv_mm.resize(na * nt);
 
+  const CalibrationErrors calibration = draw_calibration_errors(s, na, nc);
+
   // Brightness and truth, antennas split over threads; each antenna has its own random
   // stream, so results do not depend on the thread count.
   auto start_brightness = Clock::now();
@@ -253,6 +295,9 @@ Night simulate_night(const Scenario& s,
       }
       if (status != FastModelStatus::kOk) night.radiometer.valid[at] = 0;
     }
+    apply_calibration_errors(
+        calibration, a, g.time_s, nc,
+        std::span<double>(night.radiometer.brightness_k).subspan(a * nt * nc, nt * nc));
     apply_faults(s, a, g.time_s, nc,
                  std::span<double>(night.radiometer.brightness_k).subspan(a * nt * nc, nt * nc),
                  std::span<std::uint8_t>(night.radiometer.valid).subspan(a * nt, nt), random);
@@ -327,6 +372,13 @@ Night simulate_night(const Scenario& s,
         {f.start_s, f.stop_s, f.antenna, "radiometer fault: " + to_string(f.kind)});
   }
   add_turbulence_episodes(s, g, truth);
+  truth.sky_differences = s.true_sky.describe();
+  if (s.true_sky.calibration.any()) {
+    truth.calibration_offset_k = calibration.offset_k;
+    truth.calibration_gain = calibration.gain;
+    truth.calibration_offset_drift_k_per_hour = calibration.offset_drift_k_per_hour;
+    truth.calibration_gain_drift_per_hour = calibration.gain_drift_per_hour;
+  }
   night.truth = std::move(truth);
   if (report != nullptr) *report = timing;
   return night;
