@@ -2,6 +2,8 @@
 // conventions, for comparisons with published tables.
 #include "wvr/absorption.hpp"
 
+#include <pybind11/stl.h>
+
 #include <span>
 #include <string>
 #include <vector>

@@ -85,8 +85,8 @@ struct TrueSky {
 
   // The site parameters of the true sky's profile.
   SiteParameters apply_to(const SiteParameters& site) const;
-  // How the true sky differs from the site model, as "name = value" pairs for the truth
-  // record (empty when it does not).
+  // How the true sky differs from the site model, as "name = value" pairs in name order for
+  // the truth record (empty when it does not).
   std::vector<std::pair<std::string, std::string>> describe() const;
 };
 

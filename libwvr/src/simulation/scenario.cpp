@@ -99,6 +99,9 @@ std::vector<std::pair<std::string, std::string>> TrueSky::describe() const {
     out.emplace_back("calibration_gain_drift_sigma_per_hour",
                      number(calibration.gain_drift_sigma_per_hour));
   }
+  // In name order, the order a night file gives them back: a night read from its file equals
+  // the night simulated.
+  std::sort(out.begin(), out.end());
   return out;
 }
 

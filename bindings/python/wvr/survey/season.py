@@ -263,12 +263,22 @@ def to_toml(document):
              if not isinstance(v, dict) and not _is_table_array(v)]
     for key, value in document.items():
         if isinstance(value, dict):
-            lines += ["", f"[{key}]"] + [f"{k} = {_toml_value(v)}" for k, v in value.items()]
+            lines += _toml_table(key, value)
     for key, value in document.items():
         if _is_table_array(value):
             for table in value:
                 lines += ["", f"[[{key}]]"] + [f"{k} = {_toml_value(v)}" for k, v in table.items()]
     return "\n".join(lines) + "\n"
+
+
+def _toml_table(name, table):
+    """[name] with its scalars, then its sub-tables as [name.key] (e.g. [true_sky.calibration])."""
+    lines = ["", f"[{name}]"] + [f"{k} = {_toml_value(v)}" for k, v in table.items()
+                                 if not isinstance(v, dict)]
+    for key, value in table.items():
+        if isinstance(value, dict):
+            lines += _toml_table(f"{name}.{key}", value)
+    return lines
 
 
 def _is_table_array(value):
