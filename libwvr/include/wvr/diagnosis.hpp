@@ -130,8 +130,10 @@ struct RadiometerFloor {
   std::vector<double> model_error_k;          // [channel], median over antennas of the next
   std::vector<double> antenna_model_error_k;  // [antenna, channel], non-thermal rms per sample
   std::vector<double> systematic_offset_k;    // [antenna, channel], median residual over the night
-  double systematic_window_s = 0.0;           // span of the slow array-common part
-  double slow_common_rms_k = 0.0;             // rms over windows and channels of that slow part
+  // [antenna, channel] residual per mm of path change (K/mm): channel gains that differ
+  std::vector<double> path_response_k_per_mm;
+  double systematic_window_s = 0.0;   // span of the slow array-common part
+  double slow_common_rms_k = 0.0;     // rms over windows and channels of that slow part
   double chi2_per_dof_thermal = 0.0;  // median retrieval chi2/dof against thermal noise alone
   double chi2_per_dof_floor = 0.0;    // median chi2/dof after the systematic part, vs the floor
   std::string describe() const;       // one line with the numbers

@@ -27,8 +27,14 @@ std::string RadiometerFloor::describe() const {
     ++n;
   }
   offset_rms = n ? std::sqrt(offset_rms / static_cast<double>(n)) : std::nan("");
+  double response_rms = 0.0;
+  for (double v : path_response_k_per_mm) response_rms += v * v;
+  response_rms = path_response_k_per_mm.empty()
+                     ? 0.0
+                     : std::sqrt(response_rms / static_cast<double>(path_response_k_per_mm.size()));
   out << ") after per-antenna channel offsets (rms " << offset_rms
-      << " K) and a slow array-common part (rms " << slow_common_rms_k << " K over "
+      << " K), per-antenna channel responses to the path change (rms " << response_rms
+      << " K/mm) and a slow array-common part (rms " << slow_common_rms_k << " K over "
       << systematic_window_s << " s); median chi2/dof " << chi2_per_dof_thermal
       << " against thermal noise alone, " << chi2_per_dof_floor << " against the floor";
   return out.str();
@@ -46,6 +52,20 @@ double median_between(const std::vector<double>& v, std::size_t lo, std::size_t 
   std::vector<double> part(v.begin() + static_cast<std::ptrdiff_t>(lo),
                            v.begin() + static_cast<std::ptrdiff_t>(hi));
   return finite_median(part);
+}
+
+// Weighted median of (value, weight) pairs (0 when there are none); reorders them.
+double weighted_median(std::vector<std::pair<double, double>>& values) {
+  if (values.empty()) return 0.0;
+  std::sort(values.begin(), values.end());
+  double total = 0.0;
+  for (const auto& v : values) total += v.second;
+  double cumulative = 0.0;
+  for (const auto& [value, weight] : values) {
+    cumulative += weight;
+    if (cumulative >= 0.5 * total) return value;
+  }
+  return values.back().first;
 }
 
 }  // namespace
@@ -97,6 +117,7 @@ ResidualEvidence residual_evidence(const Night& night,
   // Residual of sample k of antenna a: the brightness change from the window's model with the
   // part a path change explains taken out, r = d - s (w . d). False where unusable.
   std::vector<double> residual(nc);
+  double path_change_mm = 0.0;  // of the last residual_at
   auto residual_at = [&](std::size_t a, std::size_t k) {
     if (r.flags[a * nt + k] & kRetrievalUnusable) return false;
     const std::size_t own = reference[a * nw + window_of[k]];
@@ -110,6 +131,7 @@ ResidualEvidence residual_evidence(const Night& night,
     }
     for (std::size_t c = 0; c < nc; ++c)
       residual[c] -= r.path_sensitivity_k_per_mm[aw * nc + c] * path_mm;
+    path_change_mm = path_mm;
     return std::all_of(residual.begin(), residual.end(), [](double v) { return std::isfinite(v); });
   };
   // Window means [antenna, window, channel].
@@ -161,13 +183,50 @@ ResidualEvidence residual_evidence(const Night& night,
   double slow_sum = 0.0;
   for (double v : slow) slow_sum += v * v;
   floor.slow_common_rms_k = std::sqrt(slow_sum / static_cast<double>(slow.size()));
+  // Per antenna and channel, the remainder's response to the path change: a unit whose
+  // channel gains differ by g_c reads a path change dL as (1 + g_c) s_c dL, of which the
+  // projection leaves s_c (g_c - g_mean) dL, a residual that follows the turbulence. Its slope
+  // against the path change is fitted per window and its median over the night kept, weighted
+  // by the window's path variance (a slope of a quiet window is mostly noise) but no window more
+  // than the median variance (a cloud's liquid reads as a large path change whose residual
+  // follows it; clouds and faults in fewer than half the windows then do not move the median).
+  floor.path_response_k_per_mm.assign(na * nc, 0.0);
+  {
+    std::vector<double> sum_rp(nw * nc), sum_pp(nw);
+    std::vector<std::pair<double, double>> slopes;  // (slope, weight)
+    for (std::size_t a = 0; a < na; ++a) {
+      std::fill(sum_rp.begin(), sum_rp.end(), 0.0);
+      std::fill(sum_pp.begin(), sum_pp.end(), 0.0);
+      for (std::size_t k = 0; k < nt; ++k) {
+        if (!residual_at(a, k)) continue;
+        const std::size_t w = window_of[k];
+        for (std::size_t c = 0; c < nc; ++c) {
+          const double rest =
+              residual[c] - floor.systematic_offset_k[a * nc + c] - slow[w * nc + c];
+          sum_rp[w * nc + c] += rest * path_change_mm;
+        }
+        sum_pp[w] += path_change_mm * path_change_mm;
+      }
+      const double weight_cap = finite_median(sum_pp);
+      for (std::size_t c = 0; c < nc; ++c) {
+        slopes.clear();
+        for (std::size_t w = 0; w < nw; ++w) {
+          if (sum_pp[w] > 0.0 && std::isfinite(sum_rp[w * nc + c]))
+            slopes.emplace_back(sum_rp[w * nc + c] / sum_pp[w], std::min(sum_pp[w], weight_cap));
+        }
+        floor.path_response_k_per_mm[a * nc + c] = weighted_median(slopes);
+      }
+    }
+  }
   // Model error: the robust rms of the per-sample remainder less its thermal part. The
   // projection's thermal variance of channel c is sigma_c^2 (1 - 2 s_c w_c) + s_c^2 sum w^2
   // sigma^2; its median over the night stands for all samples.
   auto remainder_at = [&](std::size_t a, std::size_t k) {
     if (!residual_at(a, k)) return false;
-    for (std::size_t c = 0; c < nc; ++c)
-      residual[c] -= floor.systematic_offset_k[a * nc + c] + slow[window_of[k] * nc + c];
+    for (std::size_t c = 0; c < nc; ++c) {
+      residual[c] -= floor.systematic_offset_k[a * nc + c] + slow[window_of[k] * nc + c] +
+                     floor.path_response_k_per_mm[a * nc + c] * path_change_mm;
+    }
     return std::all_of(residual.begin(), residual.end(), [](double v) { return std::isfinite(v); });
   };
   // Per antenna: units differ (a gain error makes the residual follow the sky's changes).

@@ -29,8 +29,10 @@ struct ResidualEvidence {
 
 // Systematic part: per antenna and channel the median over the night's retrieval windows of
 // the window-mean residual (an offset), plus, common to all antennas, the running median over
-// `systematic_window_s` of the windows' array-median remainder (a slow pattern). Short events
-// (a cloud, a faulty unit) cover less than half of either median and stay in the remainder.
+// `systematic_window_s` of the windows' array-median remainder (a slow pattern), plus per
+// antenna and channel a response proportional to the sample's path change (channel gains that
+// differ; a weighted median over windows of the per-window slope). Short events (a cloud, a
+// faulty unit) cover less than half of any of these medians and stay in the remainder.
 // Model error per antenna and channel: the robust (median-based) rms of the per-sample
 // remainder over the night, less its thermal part, floored at zero (a cloud or a fault
 // covering less than half of the night does not raise it).

@@ -136,6 +136,32 @@ TEST(Diagnosis, OneSickRadiometerFlagsItsAntennaNotTheArray) {
   EXPECT_GE(inside, 5);
 }
 
+TEST(Diagnosis, AScaleTwentyPerCentOffIsReadAsScaleOffNotDryTurbulence) {
+  // The episode night corrected with every antenna's solved scale times 0.8: a fifth of the
+  // wet phase is left, proportional to the radiometer prediction. Rescaled per baseline it
+  // falls to the noise floor, so the calibrator windows the truth calls corrected read scale off.
+  const Scenario s = parse_scenario(kEpisodes, "test.toml", test::testdata(""));
+  const Night night = simulate_night(s);
+  const NightRetrieval retrieval = retrieve_night(night, s.site.parameters);
+  const AntennaPaths paths =
+      compute_wvr_paths(night, CoefficientWindows::from_retrieval(retrieval));
+  const PhasePerPath factor = site_phase_per_path(s.site.parameters);
+  std::vector<double> scale = solve_scaling(night, paths, factor).antenna_scale;
+  for (double& v : scale) v *= 0.8;
+  const CorrectionMetrics metrics = evaluate_correction(night, paths, scale, factor);
+  const NightDiagnosis diagnosis = diagnose_night(night, retrieval, paths, metrics, factor);
+  int judged = 0, scale_off = 0;
+  for (const WindowDiagnosis& w : diagnosis.windows) {
+    const bool clear = w.start_s >= 2100.0 && w.stop_s <= 2900.0;  // no episode
+    if (!w.calibrator || !clear) continue;
+    ++judged;
+    scale_off += w.verdict == Verdict::kScaleOff;
+    EXPECT_NE(w.verdict, Verdict::kDryTurbulence) << w.start_s << ": " << w.reason;
+  }
+  EXPECT_GE(judged, 5);
+  EXPECT_GE(scale_off, judged - 1);
+}
+
 TEST(Diagnosis, ResultGroupAndReasons) {
   const Diagnosed d = diagnose(kEpisodes);
   const ResultGroup g = diagnosis_result_group(d.diagnosis);
