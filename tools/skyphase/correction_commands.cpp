@@ -86,6 +86,7 @@ void run_calibrate(const CalibrateOptions& o) {
   calibration.segment_s = o.segment_s;
   calibration.reference_antenna = o.reference_antenna;
   options.calibration = calibration;
+  options.require_calibration = true;
   options.validate();
   const Processed p = process_and_write(o.common, options);
   const wvr::CalibrationResult& c = *p.result.calibration;

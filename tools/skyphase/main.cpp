@@ -1,13 +1,31 @@
 // skyphase: the libwvr command-line program.
 //
-// Exit status: 0 success, 2 bad input (the message names the field and value), 1 any other
-// failure. Errors are one line on stderr.
+// Exit status: 0 success, 2 bad input (the message names the field and value), 3 nothing usable
+// (valid input holding nothing a stage can use; the message says why), 1 any other failure.
+// Errors are one line on stderr; with --format json, stdout also gets {"status", "reason"}.
 #include <CLI/CLI.hpp>
 #include <exception>
 #include <iostream>
+#include <nlohmann/json.hpp>
+#include <string_view>
 
 #include "commands.hpp"
 #include "wvr/error.hpp"
+
+namespace {
+
+// Read from the command line itself: the parsed --format option holds its mapped value.
+bool json_requested(int argc, char** argv) {
+  for (int i = 1; i < argc; ++i) {
+    const std::string_view arg = argv[i];
+    if (arg == "--format=json" ||
+        (arg == "--format" && i + 1 < argc && std::string_view(argv[i + 1]) == "json"))
+      return true;
+  }
+  return false;
+}
+
+}  // namespace
 
 int main(int argc, char** argv) {
   CLI::App app{"skyphase: water-vapour radiometer sky model and phase correction (libwvr)"};
@@ -41,6 +59,14 @@ int main(int argc, char** argv) {
   } catch (const CLI::ParseError& e) {
     std::cerr << "skyphase: error: " << e.what() << "\n";
     return 2;
+  } catch (const wvr::NothingUsable& e) {
+    std::cerr << "skyphase: " << e.what() << "\n";
+    if (json_requested(argc, argv)) {
+      std::cout << nlohmann::ordered_json{{"status", "nothing_usable"}, {"reason", e.what()}}.dump(
+                       2)
+                << "\n";
+    }
+    return 3;
   } catch (const wvr::InvalidInput& e) {
     std::cerr << "skyphase: error: " << e.what() << "\n";
     return 2;

@@ -1,6 +1,7 @@
 // libwvr's C++ exceptions as Python exceptions:
 //   wvr::Error             -> wvr.WvrError(Exception)
 //   wvr::InvalidInput      -> wvr.WvrValueError(WvrError, ValueError)
+//   wvr::NothingUsable     -> wvr.WvrNothingUsable(WvrError)
 //   python::MissingKey     -> wvr.WvrKeyError(WvrError, KeyError)
 //   other std::exception   -> wvr.WvrError (a failure inside a library the package uses)
 // so callers can catch either the library's base error or the matching built-in error.
@@ -15,6 +16,7 @@ namespace {
 PyObject* g_wvr_error = nullptr;
 PyObject* g_wvr_value_error = nullptr;
 PyObject* g_wvr_key_error = nullptr;
+PyObject* g_wvr_nothing_usable = nullptr;
 
 }  // namespace
 
@@ -34,15 +36,24 @@ void export_errors(py::module_& m) {
       "wvr.WvrKeyError", "A name that is not there, e.g. a dataset a result group does not hold.",
       key_bases.ptr(), nullptr);
   if (g_wvr_key_error == nullptr) throw py::error_already_set();
+  g_wvr_nothing_usable = PyErr_NewExceptionWithDoc(
+      "wvr.WvrNothingUsable",
+      "Valid input holding nothing a stage can use (every radiometer sample flagged, no "
+      "calibrator row); the message says why, with counts.",
+      g_wvr_error, nullptr);
+  if (g_wvr_nothing_usable == nullptr) throw py::error_already_set();
   m.add_object("WvrError", py::handle(g_wvr_error));
   m.add_object("WvrValueError", py::handle(g_wvr_value_error));
   m.add_object("WvrKeyError", py::handle(g_wvr_key_error));
+  m.add_object("WvrNothingUsable", py::handle(g_wvr_nothing_usable));
 
   py::register_exception_translator([](std::exception_ptr error) {
     try {
       if (error) std::rethrow_exception(error);
     } catch (const InvalidInput& e) {
       PyErr_SetString(g_wvr_value_error, e.what());
+    } catch (const NothingUsable& e) {
+      PyErr_SetString(g_wvr_nothing_usable, e.what());
     } catch (const Error& e) {
       PyErr_SetString(g_wvr_error, e.what());
     } catch (const MissingKey& e) {

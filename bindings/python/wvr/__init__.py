@@ -4,7 +4,8 @@ Every quantity carries its unit in its name (``pwv_mm``, ``freq_ghz``, ``brightn
 ``elevation_deg``); arrays go in and come out as numpy arrays. Bad input raises
 :class:`WvrValueError`, which is both a :class:`WvrError` and a :class:`ValueError`, with a
 message naming the offending field and its value. Every error the package raises derives from
-:class:`WvrError` (a missing name: :class:`WvrKeyError`, also a :class:`KeyError`).
+:class:`WvrError` (a missing name: :class:`WvrKeyError`, also a :class:`KeyError`; a night
+with nothing usable in it: :class:`WvrNothingUsable`).
 
 Example::
 
@@ -97,6 +98,7 @@ from wvr._core import (
     StreamingCorrector,
     WvrError,
     WvrKeyError,
+    WvrNothingUsable,
     WvrValueError,
     __version__,
     absorption,
@@ -244,6 +246,7 @@ __all__ = [
     "StreamingCorrector",
     "WvrError",
     "WvrKeyError",
+    "WvrNothingUsable",
     "WvrValueError",
     "__version__",
     "absorption",

@@ -28,6 +28,9 @@ class WvrValueError(WvrError, ValueError):
 class WvrKeyError(WvrError, KeyError):
     """A name that is not there, e.g. a dataset a result group does not hold."""
 
+class WvrNothingUsable(WvrError):
+    """Valid input holding nothing a stage can use; the message says why, with counts."""
+
 # --- atmosphere -----------------------------------------------------------------------------
 
 class InversionDict(TypedDict):

@@ -23,6 +23,14 @@ class InvalidInput : public Error {
   using Error::Error;
 };
 
+// Valid input that holds nothing a stage can use: every radiometer sample flagged or
+// implausible, no calibrator row to solve on. The message says why, with counts. The command
+// line exits with status 3 on it; Python sees wvr.WvrNothingUsable (a WvrError).
+class NothingUsable : public Error {
+ public:
+  using Error::Error;
+};
+
 // Builds "field = value" text for error messages with enough digits to identify the value.
 std::string describe_value(const std::string& field, double value);
 

@@ -56,6 +56,9 @@ struct NightProcessingOptions {
   TurbulenceOptions turbulence;
   NightStage last_stage = NightStage::kTurbulence;
   bool reuse_stored_results = true;
+  // Throw NothingUsable when the calibrator rows give no scale (for a caller whose job is the
+  // scale); otherwise the correction applies the model's path unscaled and says so.
+  bool require_calibration = false;
 
   void validate() const;  // throws InvalidInput naming the field
 };

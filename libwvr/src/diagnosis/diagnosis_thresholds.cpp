@@ -4,6 +4,8 @@
 #include <algorithm>
 #include <array>
 #include <optional>
+#include <string>
+#include <vector>
 
 #include "core/config_text.hpp"
 #include "wvr/diagnosis.hpp"
@@ -56,9 +58,18 @@ DiagnosisThresholds parse_diagnosis_thresholds(const std::string& toml_text,
     const auto field = std::find_if(fields.begin(), fields.end(),
                                     [&](const auto& f) { return key.str() == f.name; });
     if (field == fields.end()) {
-      throw InvalidInput(source_name + ": unknown threshold '" + std::string(key.str()) +
-                         "' (known: cloud_chi2_per_dof, ..., fault_residual_ratio; see "
-                         "wvr/diagnosis.hpp)");
+      std::vector<std::string> known;
+      for (const DiagnosisThresholdField& f : fields) known.emplace_back(f.name);
+      std::string hint;
+      if (const std::optional<std::string> suggestion = detail::nearest_key(key.str(), known)) {
+        hint = " (did you mean '" + *suggestion + "'?)";
+      } else {
+        hint = " (known:";
+        for (const std::string& name : known) hint += " " + name;
+        hint += ")";
+      }
+      throw InvalidInput(source_name + ":" + std::to_string(key.source().begin.line) +
+                         ": unknown threshold '" + std::string(key.str()) + "'" + hint);
     }
     const std::optional<double> value = node.value<double>();
     if (!value) throw InvalidInput(source_name + ": " + field->name + " is not a number");

@@ -1,6 +1,7 @@
 #include "wvr/night_processing.hpp"
 
 #include <iomanip>
+#include <map>
 #include <sstream>
 
 #include "wvr/brightness_convention_check.hpp"
@@ -61,6 +62,25 @@ const ResultGroup* reusable(const Night& night,
 void with_keys(ResultGroup& group, const std::string& key, const std::string& site_key = "") {
   group.attributes[kKeyAttribute] = key;
   if (!site_key.empty()) group.attributes[kSiteKeyAttribute] = site_key;
+}
+
+// Every later stage needs PWV somewhere: a night without a single usable retrieval sample is
+// refused with the reasons counted, instead of NaN medians that read like results.
+void require_usable_retrieval(const NightRetrieval& retrieval) {
+  std::map<std::uint8_t, std::size_t> unusable_by_reason;
+  for (const std::uint8_t flags : retrieval.flags) {
+    if ((flags & kRetrievalUnusable) == 0) return;
+    ++unusable_by_reason[flags & kRetrievalUnusable];
+  }
+  std::string reasons;
+  for (const auto& [flags, count] : unusable_by_reason) {
+    reasons += (reasons.empty() ? "" : "; ") + std::to_string(count) + " " +
+               describe_retrieval_flags(flags);
+  }
+  throw NothingUsable("nothing usable: none of the " + std::to_string(retrieval.flags.size()) +
+                      " radiometer samples (" + std::to_string(retrieval.antennas) +
+                      " antennas x " + std::to_string(retrieval.samples) + " times) gives a PWV (" +
+                      (reasons.empty() ? "no samples" : reasons) + ")");
 }
 
 bool at_least(const NightProcessingOptions& o, NightStage stage) {
@@ -169,6 +189,7 @@ NightProcessingResult process_night(const Night& night, const NightProcessingOpt
     r.result_groups.push_back(to_result_group(r.retrieval, night));
     with_keys(r.result_groups.back(), retrieval_processing_key(retrieval_options), site_key);
   }
+  require_usable_retrieval(r.retrieval);
   if (const BrightnessConventionCheck convention = check_brightness_convention(night, r.retrieval);
       convention.looks_like_other_convention) {
     r.notes.push_back("warning: " + convention.message);
@@ -194,6 +215,9 @@ NightProcessingResult process_night(const Night& night, const NightProcessingOpt
     r.calibration = solve_scaling(night, r.paths, r.phase_per_path, calibration_options);
     r.result_groups.push_back(calibration_result_group(*r.calibration));
     with_keys(r.result_groups.back(), calibration_processing_key(calibration_options));
+  }
+  if (options.require_calibration && r.calibration->status == CalibrationStatus::kNoData) {
+    throw NothingUsable("nothing usable for the scaling solve: " + r.calibration->message);
   }
   // A failed solve leaves no scales: the correction then applies the model's path unscaled.
   if (r.calibration->antenna_scale.empty())

@@ -50,6 +50,13 @@ void RadiometerConfig::validate() const {
   for (std::size_t i = 0; i < channels.size(); ++i) {
     const RadiometerChannel& c = channels[i];
     const std::string prefix = "channels[" + std::to_string(i) + "]";
+    if (c.name.empty()) throw InvalidInput(prefix + ".name is empty");
+    for (std::size_t j = 0; j < i; ++j) {
+      if (channels[j].name == c.name) {
+        throw InvalidInput(prefix + ".name = '" + c.name + "' repeats channels[" +
+                           std::to_string(j) + "].name");
+      }
+    }
     require_in_range(prefix + ".bandwidth_ghz", c.bandwidth_ghz, 1e-6, 100.0, "GHz");
     require_in_range(prefix + ".if_centre_ghz", c.if_centre_ghz, 0.0, 1000.0, "GHz");
     if (c.if_centre_ghz - 0.5 * c.bandwidth_ghz <= 0.0) {
@@ -105,47 +112,26 @@ std::vector<std::vector<QuadratureNode>> channel_quadrature(const RadiometerConf
 RadiometerConfig parse_radiometer_config(const std::string& toml_text,
                                          const std::string& source_name) {
   const toml::table table = detail::parse_toml(toml_text, source_name);
-  auto number = [&](const toml::node_view<const toml::node>& node, const std::string& field,
-                    std::optional<double> fallback) -> double {
-    if (!node) {
-      if (fallback) return *fallback;
-      throw InvalidInput(source_name + ": missing field '" + field + "'");
-    }
-    if (auto v = node.value<double>()) return *v;
-    throw InvalidInput(source_name + ": field '" + field + "' is not a number");
-  };
+  detail::StrictTable top(table, source_name, "");
   RadiometerConfig config;
-  config.name = table["name"].value_or(std::string("unnamed radiometer"));
-  config.lo_freq_ghz = number(table["lo_freq_ghz"], "lo_freq_ghz", std::nullopt);
-  if (auto points = table["quadrature_points_per_sideband"]) {
-    auto v = points.value<int64_t>();
-    if (!v) throw InvalidInput(source_name + ": quadrature_points_per_sideband is not an integer");
-    config.quadrature_points_per_sideband = static_cast<int>(*v);
-  }
-  const toml::array* channels = table["channels"].as_array();
-  if (channels == nullptr) {
+  config.name = top.text("name", "unnamed radiometer");
+  config.lo_freq_ghz = top.required_number("lo_freq_ghz");
+  config.quadrature_points_per_sideband = static_cast<int>(
+      top.integer("quadrature_points_per_sideband", config.quadrature_points_per_sideband, 1, 64));
+  if (top.node("channels") == nullptr) {
     throw InvalidInput(source_name + ": missing [[channels]] list");
   }
-  for (std::size_t i = 0; i < channels->size(); ++i) {
-    const toml::table* t = channels->get(i)->as_table();
+  const std::vector<const toml::table*> channels = top.table_list("channels");
+  for (std::size_t i = 0; i < channels.size(); ++i) {
     const std::string prefix = "channels[" + std::to_string(i) + "]";
-    if (t == nullptr) throw InvalidInput(source_name + ": " + prefix + " is not a table");
+    detail::StrictTable t(*channels[i], source_name, prefix + ".");
     RadiometerChannel c;
-    c.name = (*t)["name"].value_or(prefix);
-    auto get = [&](const char* key, std::optional<double> fallback) {
-      auto node = (*t)[key];
-      if (!node) {
-        if (fallback) return *fallback;
-        throw InvalidInput(source_name + ": " + prefix + " is missing '" + key + "'");
-      }
-      if (auto v = node.value<double>()) return *v;
-      throw InvalidInput(source_name + ": " + prefix + "." + key + " is not a number");
-    };
-    c.if_centre_ghz = get("if_centre_ghz", std::nullopt);
-    c.bandwidth_ghz = get("bandwidth_ghz", std::nullopt);
-    c.sideband_ratio = get("sideband_ratio", 1.0);
-    c.noise_k = get("noise_k", 0.0);
-    const std::string sideband = (*t)["sideband"].value_or(std::string("double"));
+    c.name = t.text("name", prefix);
+    c.if_centre_ghz = t.required_number("if_centre_ghz");
+    c.bandwidth_ghz = t.required_number("bandwidth_ghz");
+    c.sideband_ratio = t.number("sideband_ratio", 1.0);
+    c.noise_k = t.number("noise_k", 0.0);
+    const std::string sideband = t.text("sideband", "double");
     if (sideband == "double") {
       c.sideband = Sideband::kDouble;
     } else if (sideband == "upper") {
@@ -156,8 +142,10 @@ RadiometerConfig parse_radiometer_config(const std::string& toml_text,
       throw InvalidInput(source_name + ": " + prefix + ".sideband = '" + sideband +
                          "' is not one of double, upper, lower");
     }
+    t.reject_unknown_keys();
     config.channels.push_back(c);
   }
+  top.reject_unknown_keys();
   try {
     config.validate();
   } catch (const InvalidInput& error) {

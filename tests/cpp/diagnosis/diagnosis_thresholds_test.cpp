@@ -49,7 +49,9 @@ TEST(DiagnosisThresholds, BadFilesNameTheFileAndTheKey) {
     }
     return std::string("no error");
   };
-  EXPECT_NE(message("cloud_chi2 = 3\n").find("my.toml: unknown threshold 'cloud_chi2'"),
+  EXPECT_NE(message("\ncloud_chi2 = 3\n")
+                .find("my.toml:2: unknown threshold 'cloud_chi2' (did you mean "
+                      "'cloud_chi2_per_dof'?)"),
             std::string::npos);
   EXPECT_NE(message("spike_fraction = \"high\"\n").find("my.toml: spike_fraction is not a number"),
             std::string::npos);
