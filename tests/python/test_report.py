@@ -328,7 +328,6 @@ def small_night():
 @pytest.mark.parametrize("kind, missing, words", [
     ("no calibrator scans", {"phases", "antennas"}, "no calibrator phases"),
     ("single antenna", {"phases", "structure", "antennas"}, "single antenna"),
-    ("all radiometers invalid", {"pwv", "antennas"}, "unusable"),
 ])
 def test_a_night_that_lacks_something_says_what_could_not_be_judged(small_night, kind, missing,
                                                                    words):

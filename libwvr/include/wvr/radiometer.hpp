@@ -48,7 +48,8 @@ struct RadiometerConfig {
 
   // Checks every field; throws InvalidInput naming the first bad one (empty channel list,
   // non-positive or overlapping bands, band edge at or below 0 GHz IF, sky frequency
-  // outside 1-1000 GHz, non-positive sideband ratio, negative noise, NaN anywhere).
+  // outside 1-1000 GHz, non-positive sideband ratio, negative noise, NaN anywhere, a channel
+  // name used twice).
   void validate() const;
 };
 

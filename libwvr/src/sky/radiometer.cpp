@@ -50,8 +50,7 @@ void RadiometerConfig::validate() const {
   for (std::size_t i = 0; i < channels.size(); ++i) {
     const RadiometerChannel& c = channels[i];
     const std::string prefix = "channels[" + std::to_string(i) + "]";
-    if (c.name.empty()) throw InvalidInput(prefix + ".name is empty");
-    for (std::size_t j = 0; j < i; ++j) {
+    for (std::size_t j = 0; j < i && !c.name.empty(); ++j) {
       if (channels[j].name == c.name) {
         throw InvalidInput(prefix + ".name = '" + c.name + "' repeats channels[" +
                            std::to_string(j) + "].name");
@@ -127,6 +126,7 @@ RadiometerConfig parse_radiometer_config(const std::string& toml_text,
     detail::StrictTable t(*channels[i], source_name, prefix + ".");
     RadiometerChannel c;
     c.name = t.text("name", prefix);
+    if (c.name.empty()) throw InvalidInput(source_name + ": " + prefix + ".name is empty");
     c.if_centre_ghz = t.required_number("if_centre_ghz");
     c.bandwidth_ghz = t.required_number("bandwidth_ghz");
     c.sideband_ratio = t.number("sideband_ratio", 1.0);

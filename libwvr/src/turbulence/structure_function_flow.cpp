@@ -4,6 +4,7 @@
 #include <Eigen/Dense>
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <numbers>
 #include <sstream>
 
@@ -387,9 +388,22 @@ WindEstimate estimate_wind(const Night& night,
   wind.pairs_used = static_cast<std::size_t>(
       std::count_if(wind.pairs.begin(), wind.pairs.end(), [](const PairLag& p) { return p.used; }));
   const double u_norm = u.norm();
-  if (!(u_norm > 0.0) || !(1.0 / u_norm < 1e4)) {  // 10 km/s: no measurable lag
+  // A screen faster than this crosses the longest used baseline within one sample: its lags
+  // are indistinguishable from zero, and a "speed" of thousands of m/s is only noise in them.
+  double longest_used_m = 0.0;
+  for (const PairLag& p : wind.pairs) {
+    if (p.used)
+      longest_used_m = std::max(longest_used_m, std::hypot(p.baseline_east_m, p.baseline_north_m));
+  }
+  const double measurable_speed_m_s = longest_used_m / grid.step_s;
+  if (!(u_norm > 0.0) || !(1.0 / u_norm <= measurable_speed_m_s)) {
+    std::ostringstream msg;
+    msg << "lags show no measurable motion across the array (the fit gives "
+        << (u_norm > 0.0 ? 1.0 / u_norm : std::numeric_limits<double>::infinity()) << " m/s; above "
+        << measurable_speed_m_s << " m/s the longest used baseline, " << longest_used_m
+        << " m, lags by less than one " << grid.step_s << " s sample)";
     wind.status = DiagnosticStatus::kNoConvergence;
-    wind.message = "lags show no motion across the array (speed unbounded)";
+    wind.message = msg.str();
     return wind;
   }
   const Eigen::Vector2d v = u / (u_norm * u_norm);

@@ -42,6 +42,9 @@ def main(argv=None):
         if args.thresholds:
             options["thresholds"] = wvr.load_diagnosis_thresholds(args.thresholds)
         index = report_night(args.night, args.output, name=args.name, **options)
+    except wvr.WvrNothingUsable as error:
+        print(f"wvr.report: {error}", file=sys.stderr)
+        return 3  # as skyphase: valid input with nothing usable in it
     except (wvr.WvrError, OSError) as error:
         print(f"wvr.report: {error}", file=sys.stderr)
         return 2
