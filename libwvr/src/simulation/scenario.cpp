@@ -3,6 +3,8 @@
 #include <algorithm>
 #include <cmath>
 #include <iomanip>
+#include <limits>
+#include <optional>
 #include <sstream>
 
 #include "core/config_text.hpp"
@@ -190,69 +192,7 @@ void Scenario::validate() const {
 
 namespace {
 
-class TomlReader {
- public:
-  TomlReader(const toml::table& table, std::string source, std::string prefix)
-      : table_(table), source_(std::move(source)), prefix_(std::move(prefix)) {}
-
-  double number(const char* key, double fallback) const {
-    const toml::node* node = table_.get(key);
-    if (node == nullptr) return fallback;
-    if (auto v = node->value<double>()) return *v;
-    throw InvalidInput(source_ + ": " + prefix_ + key + " is not a number");
-  }
-  double required_number(const char* key) const {
-    if (table_.get(key) == nullptr) throw InvalidInput(source_ + ": missing " + prefix_ + key);
-    return number(key, 0.0);
-  }
-  std::string text(const char* key, const std::string& fallback) const {
-    const toml::node* node = table_.get(key);
-    if (node == nullptr) return fallback;
-    if (auto v = node->value<std::string>()) return *v;
-    throw InvalidInput(source_ + ": " + prefix_ + key + " is not a string");
-  }
-  bool boolean(const char* key, bool fallback) const {
-    const toml::node* node = table_.get(key);
-    if (node == nullptr) return fallback;
-    if (auto v = node->value<bool>()) return *v;
-    throw InvalidInput(source_ + ": " + prefix_ + key + " is not true or false");
-  }
-  int integer(const char* key, int fallback) const {
-    const toml::node* node = table_.get(key);
-    if (node == nullptr) return fallback;
-    if (auto v = node->value<int64_t>()) return static_cast<int>(*v);
-    throw InvalidInput(source_ + ": " + prefix_ + key + " is not an integer");
-  }
-  const toml::table& table() const { return table_; }
-
- private:
-  const toml::table& table_;
-  std::string source_;
-  std::string prefix_;
-};
-
-const toml::table& sub_table(const toml::table& root, const char* key, const std::string& source) {
-  static const toml::table empty;
-  const toml::node* node = root.get(key);
-  if (node == nullptr) return empty;
-  if (const toml::table* t = node->as_table()) return *t;
-  throw InvalidInput(source + ": [" + key + "] is not a table");
-}
-
-template <typename Fn>
-void for_each_table(const toml::table& root, const char* key, const std::string& source, Fn fn) {
-  const toml::node* node = root.get(key);
-  if (node == nullptr) return;
-  const toml::array* items = node->as_array();
-  if (items == nullptr)
-    throw InvalidInput(source + ": " + key + " must be a list of tables [[" + key + "]]");
-  for (std::size_t i = 0; i < items->size(); ++i) {
-    const toml::table* t = items->get(i)->as_table();
-    if (t == nullptr)
-      throw InvalidInput(source + ": " + key + "[" + std::to_string(i) + "] is not a table");
-    fn(TomlReader(*t, source, std::string(key) + "[" + std::to_string(i) + "]."));
-  }
-}
+using detail::StrictTable;
 
 std::vector<double> number_list(const toml::node* node, const std::string& where) {
   std::vector<double> out;
@@ -266,87 +206,78 @@ std::vector<double> number_list(const toml::node* node, const std::string& where
   return out;
 }
 
-}  // namespace
+// An integer that must fit an int without wrapping; its meaningful range is checked by
+// Scenario::validate, which names it.
+int int_value(StrictTable& t, const char* key, int fallback) {
+  return static_cast<int>(
+      t.integer(key, fallback, std::numeric_limits<int>::min(), std::numeric_limits<int>::max()));
+}
 
-Scenario parse_scenario(const std::string& toml_text,
-                        const std::string& source,
-                        const std::filesystem::path& base_directory) {
-  const toml::table root = detail::parse_toml(toml_text, source);
-  const TomlReader top(root, source, "");
-  Scenario s;
-  s.name = top.text("name", "unnamed scenario");
-  s.seed = static_cast<std::uint64_t>(top.integer("seed", 1));
-  s.start_utc = top.text("start_utc", s.start_utc);
-  s.duration_s = top.number("duration_s", s.duration_s);
-  s.integration_s = top.number("integration_s", s.integration_s);
-  s.screen_spacing_m = top.number("screen_spacing_m", s.screen_spacing_m);
-  const std::string site_file = top.text("site_file", "");
-  if (site_file.empty()) throw InvalidInput(source + ": missing site_file");
-  s.site = load_site_config(base_directory / site_file);
-  const std::string radiometer_file = top.text("radiometer_file", "");
-  if (radiometer_file.empty()) throw InvalidInput(source + ": missing radiometer_file");
-  s.radiometer = load_radiometer_config(base_directory / radiometer_file);
-
-  const TomlReader array(sub_table(root, "array", source), source, "array.");
+void read_array(StrictTable& top, Scenario& s) {
+  StrictTable array(top.sub_table("array"), top.source(), "array.");
   s.array.kind = layout_kind_from_string(array.text("layout", "extended"));
-  s.array.antenna_count = array.integer("antenna_count", s.array.antenna_count);
+  s.array.antenna_count = int_value(array, "antenna_count", s.array.antenna_count);
   s.array.min_spacing_m = array.number("min_spacing_m", s.array.min_spacing_m);
   s.array.radius_m = array.number("radius_m", s.array.radius_m);
-  if (const toml::node* positions = array.table().get("positions_enu_m")) {
+  if (const toml::node* positions = array.node("positions_enu_m")) {
     const toml::array* rows = positions->as_array();
-    if (rows == nullptr) throw InvalidInput(source + ": array.positions_enu_m is not a list");
+    if (rows == nullptr) throw InvalidInput(array.where("positions_enu_m") + " is not a list");
     for (std::size_t i = 0; i < rows->size(); ++i) {
-      const std::vector<double> p =
-          number_list(rows->get(i), source + ": array.positions_enu_m[" + std::to_string(i) + "]");
-      if (p.size() != 3) {
-        throw InvalidInput(source + ": array.positions_enu_m[" + std::to_string(i) +
-                           "] needs 3 numbers (east, north, up)");
-      }
+      const std::string where = array.where("positions_enu_m") + "[" + std::to_string(i) + "]";
+      const std::vector<double> p = number_list(rows->get(i), where);
+      if (p.size() != 3) throw InvalidInput(where + " needs 3 numbers (east, north, up)");
       s.array.explicit_enu_m.push_back({p[0], p[1], p[2]});
     }
   }
+  array.reject_unknown_keys();
+}
 
-  const TomlReader atmosphere(sub_table(root, "atmosphere", source), source, "atmosphere.");
+void read_atmosphere_and_true_sky(StrictTable& top, Scenario& s) {
+  StrictTable atmosphere(top.sub_table("atmosphere"), top.source(), "atmosphere.");
+  StrictTable true_sky(top.sub_table("true_sky"), top.source(), "true_sky.");
   s.pwv_mm = atmosphere.number("pwv_mm", s.pwv_mm);
   s.pwv_drift_mm_per_hour = atmosphere.number("pwv_drift_mm_per_hour", 0.0);
+  s.cloud_base_above_ground_m =
+      atmosphere.number("cloud_base_above_ground_m", s.cloud_base_above_ground_m);
+  s.cloud_thickness_m = atmosphere.number("cloud_thickness_m", s.cloud_thickness_m);
   // [atmosphere] water_continuum_scale is the older spelling of [true_sky] water_continuum_scale.
-  const TomlReader true_sky(sub_table(root, "true_sky", source), source, "true_sky.");
-  if (atmosphere.table().get("water_continuum_scale") != nullptr &&
-      true_sky.table().get("water_continuum_scale") != nullptr) {
-    throw InvalidInput(source +
+  const std::optional<double> old_scale = atmosphere.optional_number("water_continuum_scale");
+  const std::optional<double> scale = true_sky.optional_number("water_continuum_scale");
+  if (old_scale && scale) {
+    throw InvalidInput(top.source() +
                        ": atmosphere.water_continuum_scale and true_sky.water_continuum_scale "
                        "are both set; keep true_sky.water_continuum_scale");
   }
-  s.true_sky.water_continuum_scale =
-      true_sky.number("water_continuum_scale", atmosphere.number("water_continuum_scale", 1.0));
+  s.true_sky.water_continuum_scale = scale.value_or(old_scale.value_or(1.0));
+  atmosphere.reject_unknown_keys();
+
   s.true_sky.absorption_model = true_sky.text("absorption_model", s.true_sky.absorption_model);
-  if (true_sky.table().get("lapse_rate_k_per_km") != nullptr)
-    s.true_sky.lapse_rate_k_per_km = true_sky.number("lapse_rate_k_per_km", 0.0);
-  if (true_sky.table().get("water_scale_height_m") != nullptr)
-    s.true_sky.water_scale_height_m = true_sky.number("water_scale_height_m", 0.0);
-  if (true_sky.table().get("inversion") != nullptr) {
-    const TomlReader inversion(sub_table(true_sky.table(), "inversion", source), source,
-                               "true_sky.inversion.");
+  s.true_sky.lapse_rate_k_per_km = true_sky.optional_number("lapse_rate_k_per_km");
+  s.true_sky.water_scale_height_m = true_sky.optional_number("water_scale_height_m");
+  if (true_sky.node("inversion") != nullptr) {
+    StrictTable inversion(true_sky.sub_table("inversion"), top.source(), "true_sky.inversion.");
     s.true_sky.inversion = Inversion{inversion.required_number("base_above_ground_m"),
                                      inversion.required_number("depth_m"),
                                      inversion.required_number("temperature_jump_k")};
+    inversion.reject_unknown_keys();
   }
-  const TomlReader calibration(sub_table(true_sky.table(), "calibration", source), source,
-                               "true_sky.calibration.");
+  StrictTable calibration(true_sky.sub_table("calibration"), top.source(), "true_sky.calibration.");
   CalibrationErrorSpec& cal = s.true_sky.calibration;
   cal.offset_sigma_k = calibration.number("offset_sigma_k", 0.0);
   cal.gain_sigma = calibration.number("gain_sigma", 0.0);
   cal.offset_drift_sigma_k_per_hour = calibration.number("offset_drift_sigma_k_per_hour", 0.0);
   cal.gain_drift_sigma_per_hour = calibration.number("gain_drift_sigma_per_hour", 0.0);
-  s.cloud_base_above_ground_m =
-      atmosphere.number("cloud_base_above_ground_m", s.cloud_base_above_ground_m);
-  s.cloud_thickness_m = atmosphere.number("cloud_thickness_m", s.cloud_thickness_m);
+  calibration.reject_unknown_keys();
+  true_sky.reject_unknown_keys();
+}
 
-  const TomlReader track(sub_table(root, "source", source), source, "source.");
+void read_source_and_observing(StrictTable& top, Scenario& s) {
+  StrictTable track(top.sub_table("source"), top.source(), "source.");
   s.source.declination_deg = track.number("declination_deg", s.source.declination_deg);
   s.source.start_hour_angle_h = track.number("start_hour_angle_h", s.source.start_hour_angle_h);
+  track.reject_unknown_keys();
 
-  const TomlReader obs(sub_table(root, "observing", source), source, "observing.");
+  StrictTable obs(top.sub_table("observing"), top.source(), "observing.");
   s.observing.obs_freq_ghz = obs.number("obs_freq_ghz", s.observing.obs_freq_ghz);
   s.observing.calibrator_scan_s = obs.number("calibrator_scan_s", s.observing.calibrator_scan_s);
   s.observing.target_scan_s = obs.number("target_scan_s", s.observing.target_scan_s);
@@ -356,56 +287,104 @@ Scenario parse_scenario(const std::string& toml_text,
       obs.number("thermal_phase_noise_deg", s.observing.thermal_phase_noise_deg);
   const std::string baselines = obs.text("phase_baselines", "reference");
   if (baselines != "reference" && baselines != "all") {
-    throw InvalidInput(source + ": observing.phase_baselines = '" + baselines +
+    throw InvalidInput(obs.where("phase_baselines") + " = '" + baselines +
                        "' is not reference or all");
   }
   s.observing.all_baselines = baselines == "all";
+  obs.reject_unknown_keys();
+}
 
-  for_each_table(root, "turbulence", source, [&](const TomlReader& t) {
-    TurbulenceSpec spec;
-    const std::string kind = t.text("kind", "wet");
-    if (kind != "wet" && kind != "dry") {
-      throw InvalidInput(source + ": turbulence kind = '" + kind + "' is not wet or dry");
+TurbulenceSpec read_turbulence(StrictTable& t) {
+  TurbulenceSpec spec;
+  const std::string kind = t.text("kind", "wet");
+  if (kind != "wet" && kind != "dry") {
+    throw InvalidInput(t.where("kind") + " = '" + kind + "' is not wet or dry");
+  }
+  spec.layer.kind = kind == "wet" ? LayerKind::kWet : LayerKind::kDry;
+  spec.layer.height_m = t.number("height_m", spec.layer.height_m);
+  spec.layer.thickness_m = t.number("thickness_m", spec.layer.thickness_m);
+  spec.layer.outer_scale_m = t.number("outer_scale_m", spec.layer.outer_scale_m);
+  spec.layer.wind_east_m_s = t.number("wind_east_m_s", spec.layer.wind_east_m_s);
+  spec.layer.wind_north_m_s = t.number("wind_north_m_s", spec.layer.wind_north_m_s);
+  spec.layer.reference_baseline_m = t.number("reference_baseline_m", 1000.0);
+  spec.layer.path_rms_at_reference_m = t.required_number("path_rms_um") * 1e-6;
+  spec.label = t.text("label", "");
+  if (const toml::node* schedule = t.node("schedule")) {
+    const toml::array* rows = schedule->as_array();
+    if (rows == nullptr) throw InvalidInput(t.where("schedule") + " is not a list");
+    for (const toml::node& row : *rows) {
+      const std::vector<double> p = number_list(&row, t.where("schedule") + " entry");
+      if (p.size() != 2) throw InvalidInput(t.where("schedule") + " entries are [time_s, factor]");
+      spec.schedule.emplace_back(p[0], p[1]);
     }
-    spec.layer.kind = kind == "wet" ? LayerKind::kWet : LayerKind::kDry;
-    spec.layer.height_m = t.number("height_m", spec.layer.height_m);
-    spec.layer.thickness_m = t.number("thickness_m", spec.layer.thickness_m);
-    spec.layer.outer_scale_m = t.number("outer_scale_m", spec.layer.outer_scale_m);
-    spec.layer.wind_east_m_s = t.number("wind_east_m_s", spec.layer.wind_east_m_s);
-    spec.layer.wind_north_m_s = t.number("wind_north_m_s", spec.layer.wind_north_m_s);
-    spec.layer.reference_baseline_m = t.number("reference_baseline_m", 1000.0);
-    spec.layer.path_rms_at_reference_m = t.required_number("path_rms_um") * 1e-6;
-    spec.label = t.text("label", "");
-    if (const toml::node* schedule = t.table().get("schedule")) {
-      const toml::array* rows = schedule->as_array();
-      if (rows == nullptr) throw InvalidInput(source + ": turbulence schedule is not a list");
-      for (const toml::node& row : *rows) {
-        const std::vector<double> p = number_list(&row, source + ": turbulence schedule entry");
-        if (p.size() != 2)
-          throw InvalidInput(source + ": turbulence schedule entries are [time_s, factor]");
-        spec.schedule.emplace_back(p[0], p[1]);
-      }
-    }
-    s.turbulence.push_back(spec);
-  });
-  for_each_table(root, "clouds", source, [&](const TomlReader& t) {
-    CloudEpisode c;
-    c.start_s = t.required_number("start_s");
-    c.stop_s = t.required_number("stop_s");
-    c.liquid_water_path_kg_m2 = t.required_number("liquid_water_path_kg_m2");
-    c.ramp_s = t.number("ramp_s", c.ramp_s);
-    s.clouds.push_back(c);
-  });
-  for_each_table(root, "faults", source, [&](const TomlReader& t) {
-    RadiometerFault f;
-    f.antenna = t.integer("antenna", -1);
-    f.kind = fault_kind_from_string(t.text("kind", ""));
-    f.start_s = t.required_number("start_s");
-    f.stop_s = t.required_number("stop_s");
-    f.channel = t.integer("channel", -1);
-    f.magnitude = t.number("magnitude", 0.0);
-    s.faults.push_back(f);
-  });
+  }
+  t.reject_unknown_keys();
+  return spec;
+}
+
+CloudEpisode read_cloud(StrictTable& t) {
+  CloudEpisode c;
+  c.start_s = t.required_number("start_s");
+  c.stop_s = t.required_number("stop_s");
+  c.liquid_water_path_kg_m2 = t.required_number("liquid_water_path_kg_m2");
+  c.ramp_s = t.number("ramp_s", c.ramp_s);
+  t.reject_unknown_keys();
+  return c;
+}
+
+RadiometerFault read_fault(StrictTable& t) {
+  RadiometerFault f;
+  f.antenna = int_value(t, "antenna", -1);
+  f.kind = fault_kind_from_string(t.text("kind", ""));
+  f.start_s = t.required_number("start_s");
+  f.stop_s = t.required_number("stop_s");
+  f.channel = int_value(t, "channel", -1);
+  f.magnitude = t.number("magnitude", 0.0);
+  t.reject_unknown_keys();
+  return f;
+}
+
+// Each [[key]] table through `read`, with "key[i]." naming it in messages.
+template <typename Read>
+void for_each_table(StrictTable& top, const char* key, Read read) {
+  const std::vector<const toml::table*> tables = top.table_list(key);
+  for (std::size_t i = 0; i < tables.size(); ++i) {
+    StrictTable t(*tables[i], top.source(), std::string(key) + "[" + std::to_string(i) + "].");
+    read(t);
+  }
+}
+
+}  // namespace
+
+Scenario parse_scenario(const std::string& toml_text,
+                        const std::string& source,
+                        const std::filesystem::path& base_directory) {
+  const toml::table root = detail::parse_toml(toml_text, source);
+  StrictTable top(root, source, "");
+  Scenario s;
+  s.name = top.text("name", "unnamed scenario");
+  s.seed = static_cast<std::uint64_t>(
+      top.integer("seed", 1, 0, std::numeric_limits<std::int64_t>::max()));
+  s.start_utc = top.text("start_utc", s.start_utc);
+  s.duration_s = top.number("duration_s", s.duration_s);
+  s.integration_s = top.number("integration_s", s.integration_s);
+  s.screen_spacing_m = top.number("screen_spacing_m", s.screen_spacing_m);
+  const std::string site_file = top.text("site_file", "");
+  if (site_file.empty()) throw InvalidInput(source + ": missing site_file");
+  const std::string radiometer_file = top.text("radiometer_file", "");
+  if (radiometer_file.empty()) throw InvalidInput(source + ": missing radiometer_file");
+  read_array(top, s);
+  read_atmosphere_and_true_sky(top, s);
+  read_source_and_observing(top, s);
+  for_each_table(top, "turbulence",
+                 [&](StrictTable& t) { s.turbulence.push_back(read_turbulence(t)); });
+  for_each_table(top, "clouds", [&](StrictTable& t) { s.clouds.push_back(read_cloud(t)); });
+  for_each_table(top, "faults", [&](StrictTable& t) { s.faults.push_back(read_fault(t)); });
+  // Unknown keys are named before the site and radiometer files are read: a misspelt key in
+  // this file is the first thing to fix.
+  top.reject_unknown_keys();
+  s.site = load_site_config(base_directory / site_file);
+  s.radiometer = load_radiometer_config(base_directory / radiometer_file);
   try {
     s.validate();
   } catch (const InvalidInput& e) {

@@ -3,6 +3,7 @@
 // not a regular file of sensible size is refused before it is read.
 #include <gtest/gtest.h>
 
+#include <filesystem>
 #include <string>
 
 #include "core/config_text.hpp"
@@ -10,6 +11,7 @@
 #include "wvr/diagnosis.hpp"
 #include "wvr/error.hpp"
 #include "wvr/radiometer.hpp"
+#include "wvr/scenario.hpp"
 #include "wvr/site_config.hpp"
 
 namespace wvr {
@@ -98,6 +100,9 @@ TEST(StrictConfig, TheShippedFilesStillRead) {
   EXPECT_NO_THROW(load_radiometer_config(test::testdata("radiometers/demo-183-dsb.toml")));
   EXPECT_NO_THROW(load_radiometer_config(test::testdata("radiometers/demo-22-ssb.toml")));
   EXPECT_NO_THROW(load_diagnosis_thresholds(test::testdata("diagnosis-thresholds.toml")));
+  EXPECT_NO_THROW(load_scenario(test::testdata("demo-scenario.toml")));
+  for (const auto& entry : std::filesystem::directory_iterator(test::testdata("scenarios")))
+    EXPECT_NO_THROW(load_scenario(entry.path())) << entry.path();
 }
 
 TEST(StrictConfig, OnlyRegularFilesOfConfigurationSizeAreRead) {
@@ -107,6 +112,51 @@ TEST(StrictConfig, OnlyRegularFilesOfConfigurationSizeAreRead) {
   const std::string missing = error_of([] { load_site_config("/nonexistent/site.toml"); });
   EXPECT_NE(missing.find("site file /nonexistent/site.toml cannot be opened"), std::string::npos)
       << missing;
+}
+
+std::string scenario_error(const std::string& extra) {
+  return error_of([&] {
+    parse_scenario(
+        "site_file = \"sites/demo-site.toml\"\nradiometer_file = "
+        "\"radiometers/demo-183-dsb.toml\"\n" +
+            extra,
+        "night.toml", test::testdata(""));
+  });
+}
+
+TEST(StrictConfig, ScenarioKeysAreCheckedInEveryTable) {
+  EXPECT_EQ(scenario_error(""), "no error");
+  EXPECT_NE(scenario_error("duration = 600.0\n")
+                .find("night.toml:3: unknown key 'duration' (did "
+                      "you mean 'duration_s'?)"),
+            std::string::npos);
+  EXPECT_NE(scenario_error("[array]\nantena_count = 8\n")
+                .find("night.toml:4: unknown key 'array.antena_count' (did you mean "
+                      "'array.antenna_count'?)"),
+            std::string::npos);
+  EXPECT_NE(scenario_error("[true_sky.calibration]\noffset_k = 1.0\n")
+                .find("unknown key 'true_sky.calibration.offset_k'"),
+            std::string::npos);
+  EXPECT_NE(scenario_error("[[turbulence]]\npath_rms_um = 100.0\nspeed = 3.0\n")
+                .find("night.toml:5: unknown key 'turbulence[0].speed'"),
+            std::string::npos);
+  EXPECT_NE(scenario_error("[[faults]]\nantenna = 1\nkind = \"spike\"\nstart_s = 0.0\n"
+                           "stop_s = 10.0\nmagnitud = 3.0\n")
+                .find("unknown key 'faults[0].magnitud' (did you mean 'faults[0].magnitude'?)"),
+            std::string::npos);
+}
+
+TEST(StrictConfig, ScenarioIntegersDoNotWrap) {
+  // 2^32 + 6 once became 6 antennas through a 32-bit cast.
+  const std::string wrapped = scenario_error("[array]\nantenna_count = 4294967302\n");
+  EXPECT_NE(wrapped.find("night.toml: array.antenna_count = 4294967302 is outside"),
+            std::string::npos)
+      << wrapped;
+  EXPECT_NE(scenario_error("seed = -1\n").find("night.toml: seed = -1 is outside"),
+            std::string::npos);
+  EXPECT_NE(scenario_error("[array]\nantenna_count = 1.5\n")
+                .find("array.antenna_count is not an integer"),
+            std::string::npos);
 }
 
 TEST(StrictConfig, NearestKeySuggestsOnlyLikelySlips) {
