@@ -21,5 +21,6 @@ void add_survey_command(CLI::App& app);
 void add_import_command(CLI::App& app);
 void add_export_command(CLI::App& app);
 void add_crosscal_command(CLI::App& app);
+void add_dip_command(CLI::App& app);
 
 }  // namespace skyphase

@@ -48,6 +48,7 @@ int main(int argc, char** argv) {
   skyphase::add_export_command(app);
 #endif
   skyphase::add_crosscal_command(app);
+  skyphase::add_dip_command(app);
   try {
     app.parse(argc, argv);
   } catch (const CLI::CallForHelp& e) {

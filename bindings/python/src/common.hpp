@@ -38,6 +38,7 @@ void export_fast_sky_model(py::module_& m);
 void export_night(py::module_& m);
 void export_simulator(py::module_& m);
 void export_retrieval(py::module_& m);
+void export_sky_dip(py::module_& m);
 void export_correction(py::module_& m);
 void export_night_processing(py::module_& m);
 void export_streaming(py::module_& m);

@@ -28,4 +28,5 @@ PYBIND11_MODULE(_core, m) {
   wp::export_correction(m);
   wp::export_streaming(m);
   wp::export_radiometer_cross_calibration(m);
+  wp::export_sky_dip(m);
 }

@@ -1466,3 +1466,31 @@ def cross_calibrate(
     apply: bool = False,
     include_drift: bool = False,
 ) -> Dict[str, Any]: ...  # offset_k, gain [A, C] relative to the array, ..., flagged_units, night
+
+# --- sky dips --------------------------------------------------------------------------------
+
+def simulate_sky_dips(
+    profile: AtmosphereProfile,
+    radiometer: Radiometer,
+    units: Sequence[Dict[str, Any]],  # antenna, offset_k (K), gain: one value or one per channel
+    *,
+    elevation_deg: Optional[ArrayLike] = None,  # deg, scan order; default 90 -> 20 in 7 steps
+    dwell_s: float = 5.0,  # s
+    sample_interval_s: float = 1.0,  # s
+    absorption_model: str = "p676",
+    noise: bool = True,
+    seed: int = 1,
+) -> List[Dict[str, Any]]: ...  # antenna, time_s, elevation_deg, brightness_k [sample, channel]
+def fit_sky_dip(
+    profile: AtmosphereProfile,
+    radiometer: Radiometer,
+    elevation_deg: ArrayLike,  # deg [sample]
+    brightness_k: ArrayLike,  # K [sample, channel], RJ-equivalent
+    *,
+    antenna: str = "",
+    time_s: Optional[ArrayLike] = None,
+    absorption_model: str = "p676",
+    gain_prior_sigma: float = 0.05,
+    slab_temperature_prior_sigma_k: float = 15.0,  # K
+    slab_tolerance: float = 0.02,
+) -> Dict[str, Any]: ...  # pwv_mm, offset_k, gain, zenith_opacity_np, slab_*, notes, ...

@@ -34,6 +34,8 @@
 //   wvr::SkyDipFit fit = wvr::fit_sky_dip(dips[0], profile, radiometer);
 
 #include <cstdint>
+#include <filesystem>
+#include <iosfwd>
 #include <string>
 #include <vector>
 
@@ -130,5 +132,18 @@ SkyDipFit fit_sky_dip(const SkyDip& dip,
                       const AtmosphereProfile& profile,
                       const RadiometerConfig& radiometer,
                       const SkyDipFitOptions& options = {});
+
+// Dips as CSV: a header "time_s,antenna,elevation_deg,<channel>,..." (brightness columns in K,
+// RJ-equivalent, named by the radiometer's channels, any order, extra columns ignored), one
+// sample per line, '#' lines skipped; one dip per antenna in order of first appearance. Errors
+// name the source, the line and the column.
+std::vector<SkyDip> parse_sky_dip_csv(std::istream& in,
+                                      const RadiometerConfig& radiometer,
+                                      const std::string& source_name = "<stream>");
+std::vector<SkyDip> read_sky_dip_csv(const std::filesystem::path& path,
+                                     const RadiometerConfig& radiometer);
+void write_sky_dip_csv(std::ostream& out,
+                       const std::vector<SkyDip>& dips,
+                       const RadiometerConfig& radiometer);
 
 }  // namespace wvr

@@ -253,7 +253,8 @@ SkyDipFit fit_sky_dip(const SkyDip& dip,
       said.push_back("slab opacity " + format_number("%+.1f", 100.0 * ch.slab_opacity_difference) +
                      " % from the layered fit's (tolerance " +
                      format_number("%g", 100.0 * options.slab_agreement_tolerance) +
-                     " %): the atmosphere is not a thin isothermal slab in this channel");
+                     " %): the slab form does not hold in this channel (thick or non-isothermal "
+                     "atmosphere, or opacity varying over the passband)");
     // A channel near saturation barely changes over the dip: its offset and gain then trade
     // against each other and only their combination is measured.
     const double offset_gain_correlation =
