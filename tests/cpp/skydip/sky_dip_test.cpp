@@ -11,6 +11,7 @@
 #include "test_util.hpp"
 #include "wvr/error.hpp"
 #include "wvr/site_config.hpp"
+#include "wvr/sky_model.hpp"
 
 namespace wvr {
 namespace {
@@ -112,6 +113,26 @@ TEST(SkyDip, DrierSkyRecoversEveryChannelsOffset) {
         << ch.channel;
     EXPECT_NEAR(ch.offset_k, offset_k[c], 0.3) << ch.channel;
     EXPECT_LT(std::abs(ch.offset_k - offset_k[c]), 4.0 * ch.offset_sigma_k) << ch.channel;
+  }
+}
+
+TEST(SkyDip, ZenithOpacityIsTheSkyModelsPassbandAverage) {
+  // The fit's per-layer opacity sum against the radiative transfer's own total opacity at the
+  // zenith (wvr::SkyModel::spectrum), averaged with the channel's quadrature weights.
+  const RadiometerConfig radiometer = demo_radiometer();
+  const AtmosphereProfile truth = site_profile(1.0, 270.0, 4850.0);
+  const SkyDipFit fit = noiseless_fit(truth, radiometer);
+  const SkyModel sky;
+  const auto nodes = channel_quadrature(radiometer);
+  for (std::size_t c = 0; c < nodes.size(); ++c) {
+    std::vector<double> freq_ghz;
+    for (const QuadratureNode& q : nodes[c]) freq_ghz.push_back(q.freq_ghz);
+    const SkySpectrum zenith = sky.spectrum(truth, freq_ghz, 90.0);
+    double opacity_np = 0.0;
+    for (std::size_t k = 0; k < freq_ghz.size(); ++k)
+      opacity_np += nodes[c][k].weight * zenith.opacity_np[k];
+    EXPECT_NEAR(fit.channels[c].zenith_opacity_np / opacity_np, 1.0, 1e-3)
+        << fit.channels[c].channel;
   }
 }
 
