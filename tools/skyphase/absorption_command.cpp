@@ -50,7 +50,7 @@ void run_absorption(const AbsorptionOptions& o) {
     j["temp_k"] = o.temp_k;
     j["vapour_density_g_m3"] = o.vapour_density_g_m3;
     j["model"] = model->name();
-    std::cout << j.dump(2) << "\n";
+    print_json(j);
     return;
   }
   const bool csv = o.format == Format::kCsv;

@@ -81,7 +81,7 @@ void run_one_model(const ChannelsOptions& o,
     nlohmann::ordered_json j = header_json(radiometer);
     j["model"] = sky.absorption_model().name();
     j["points"] = points;
-    std::cout << j.dump(2) << "\n";
+    print_json(j);
   } else if (csv) {
     table.print_csv(std::cout);
   } else {
@@ -136,7 +136,7 @@ void run_comparison(const ChannelsOptions& o,
     j["model_a"] = p676.absorption_model().name();
     j["model_b"] = r17.absorption_model().name();
     j["points"] = points;
-    std::cout << j.dump(2) << "\n";
+    print_json(j);
   } else if (csv) {
     channels.print_csv(std::cout);
   } else {

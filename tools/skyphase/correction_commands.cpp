@@ -55,7 +55,7 @@ void print_summary(const wvr::Night& night,
     }
     j["antennas"] = antennas;
     j["output"] = output;
-    std::cout << j.dump(2) << "\n";
+    print_json(j);
     return;
   }
   std::cout << "scale " << with_uncertainty(scale, scale_sigma)

@@ -88,7 +88,7 @@ void run_crosscal(const CrosscalOptions& o) {
   if (o.format == Format::kJson) {
     nlohmann::ordered_json j = to_json(x);
     j["output"] = o.output_file;
-    std::cout << j.dump(2) << "\n";
+    print_json(j);
     return;
   }
   print_table(x);

@@ -145,7 +145,7 @@ void add_diagnose_command(CLI::App& app) {
   cmd->callback([options] {
     const DiagnosedNight d = diagnose_and_write(*options);
     if (options->format == Format::kJson) {
-      std::cout << d.json.dump(2) << "\n";
+      print_json(d.json);
     } else {
       print_text(d);
     }
@@ -171,7 +171,7 @@ void add_process_command(CLI::App& app) {
                            {"pwv_p90_mm", json_number(s.pwv_p90_mm)},
                            {"chi2_per_dof_median", json_number(s.chi2_per_dof_median)}};
     if (options->format == Format::kJson) {
-      std::cout << d.json.dump(2) << "\n";
+      print_json(d.json);
     } else {
       std::cout << "PWV median " << fixed(s.pwv_median_mm, 3)
                 << " mm (10-90 %: " << fixed(s.pwv_p10_mm, 3) << " - " << fixed(s.pwv_p90_mm, 3)

@@ -5,11 +5,14 @@
 // Errors are one line on stderr; with --format json, stdout also gets {"status", "reason"}.
 #include <CLI/CLI.hpp>
 #include <exception>
+#include <filesystem>
 #include <iostream>
+#include <new>
 #include <nlohmann/json.hpp>
 #include <string_view>
 
 #include "commands.hpp"
+#include "output.hpp"
 #include "wvr/error.hpp"
 
 namespace {
@@ -63,16 +66,27 @@ int main(int argc, char** argv) {
   } catch (const wvr::NothingUsable& e) {
     std::cerr << "skyphase: " << e.what() << "\n";
     if (json_requested(argc, argv)) {
-      std::cout << nlohmann::ordered_json{{"status", "nothing_usable"}, {"reason", e.what()}}.dump(
-                       2)
-                << "\n";
+      skyphase::print_json({{"status", "nothing_usable"}, {"reason", e.what()}});
     }
     return 3;
   } catch (const wvr::InvalidInput& e) {
     std::cerr << "skyphase: error: " << e.what() << "\n";
     return 2;
-  } catch (const std::exception& e) {
+  } catch (const wvr::Error& e) {
     std::cerr << "skyphase: error: " << e.what() << "\n";
+    return 1;
+  } catch (const std::filesystem::filesystem_error& e) {
+    // In the project's words: the path and the system's reason, not the library's wording.
+    std::cerr << "skyphase: error: " << e.path1().string() << ": " << e.code().message() << "\n";
+    return 1;
+  } catch (const std::bad_alloc&) {
+    std::cerr << "skyphase: error: out of memory (the input is larger than this machine can "
+                 "hold; try fewer threads or a shorter night)\n";
+    return 1;
+  } catch (const std::exception& e) {
+    // A failure inside a library we use: say so rather than print its bare message.
+    std::cerr << "skyphase: error: internal failure (" << e.what()
+              << "); please report it with the command line\n";
     return 1;
   }
   return 0;

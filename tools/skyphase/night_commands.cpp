@@ -47,7 +47,7 @@ void run_simulate(const SimulateOptions& o) {
     j["brightness_seconds"] = report.brightness_seconds;
     j["write_seconds"] = write_s;
     j["total_seconds"] = total_s;
-    std::cout << j.dump(2) << "\n";
+    print_json(j);
     return;
   }
   std::cout << "simulated '" << scenario.name << "': " << night.antenna_count() << " antennas x "
@@ -93,7 +93,7 @@ void run_inspect(const InspectOptions& o) {
   j["calibrator_phase_rows"] = s.calibrator_phase_count;
   j["truth"] = s.has_truth;
   j["result_groups"] = s.result_stages;
-  std::cout << j.dump(2) << "\n";
+  print_json(j);
 }
 
 }  // namespace

@@ -5,6 +5,7 @@
 #include <cmath>
 #include <cstdlib>
 #include <iomanip>
+#include <iostream>
 #include <map>
 #include <ostream>
 #include <sstream>
@@ -89,6 +90,11 @@ std::string exact(double value) {
   char buffer[64];
   const auto result = std::to_chars(buffer, buffer + sizeof(buffer), value);
   return std::string(buffer, result.ptr);
+}
+
+void print_json(const nlohmann::ordered_json& document) {
+  std::cout << document.dump(2, ' ', false, nlohmann::ordered_json::error_handler_t::replace)
+            << "\n";
 }
 
 }  // namespace skyphase

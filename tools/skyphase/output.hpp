@@ -4,6 +4,7 @@
 
 #include <CLI/CLI.hpp>
 #include <iosfwd>
+#include <nlohmann/json.hpp>
 #include <string>
 #include <vector>
 
@@ -35,5 +36,9 @@ std::string fixed(double value, int digits);
 std::string with_uncertainty(double value, double sigma);
 // Shortest text that reads back to the same double.
 std::string exact(double value);
+
+// Prints a JSON document on stdout. Names read from files need not be UTF-8: invalid bytes
+// are printed as U+FFFD instead of failing the whole command after its work is done.
+void print_json(const nlohmann::ordered_json& document);
 
 }  // namespace skyphase

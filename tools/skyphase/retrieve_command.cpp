@@ -48,7 +48,7 @@ void run_retrieve(const CommonOptions& o) {
     j["retrieval_seconds"] = retrieval.seconds;
     j["total_seconds"] = total_s;
     j["output"] = o.output_file;
-    std::cout << j.dump(2) << "\n";
+    print_json(j);
     return;
   }
   print_notes(p.result);

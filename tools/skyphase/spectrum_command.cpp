@@ -35,7 +35,7 @@ void run_spectrum(const SpectrumOptions& o) {
     j["pwv_mm"] = s.pwv_mm;
     j["elevation_deg"] = s.elevation_deg;
     j["model"] = s.model;
-    std::cout << j.dump(2) << "\n";
+    print_json(j);
     return;
   }
   Table table({"freq_ghz", "brightness_k", "rj_brightness_k", "opacity_np", "transmission"});
