@@ -45,8 +45,15 @@ for target in "${targets[@]}"; do
   mkdir -p "$corpus"
   # shellcheck disable=SC2046
   cp -n $(seeds_of "$target") "$corpus/"
+  # HDF5 1.10 keeps about 1 KB per file whose root group is damaged beyond opening, although
+  # every identifier we open is closed (H5Fget_obj_count is 0 after the failed read): leak
+  # detection would stop on HDF5's own allocation, so it is off for the night reader.
+  leaks=1
+  [ "$target" = night_reader ] && leaks=0
   echo "fuzz_$target: ${seconds} s"
-  build-fuzz/tests/fuzz/"fuzz_$target" "$corpus" -max_total_time="$seconds" -timeout=20 \
+  ASAN_OPTIONS="detect_leaks=$leaks" \
+    build-fuzz/tests/fuzz/"fuzz_$target" "$corpus" -max_total_time="$seconds" -timeout=20 \
+    -detect_leaks="$leaks" \
     -rss_limit_mb=2048 -print_final_stats=1 \
     -artifact_prefix="build-fuzz/findings/$target-" 2> "build-fuzz/fuzz_$target.log" ||
     { tail -n 60 "build-fuzz/fuzz_$target.log"; exit 1; }

@@ -55,8 +55,9 @@ DiagnosisThresholds parse_diagnosis_thresholds(const std::string& toml_text,
   DiagnosisThresholds thresholds;
   const std::span<const DiagnosisThresholdField> fields = diagnosis_threshold_fields();
   for (const auto& [key, node] : table) {
+    const std::string_view name = key.str();  // a structured binding cannot be captured (clang 14)
     const auto field = std::find_if(fields.begin(), fields.end(),
-                                    [&](const auto& f) { return key.str() == f.name; });
+                                    [name](const auto& f) { return name == f.name; });
     if (field == fields.end()) {
       std::vector<std::string> known;
       for (const DiagnosisThresholdField& f : fields) known.emplace_back(f.name);
