@@ -124,7 +124,7 @@ void run_dip(const DipOptions& o) {
     j["source"] = o.input_file.empty() ? "simulated" : o.input_file;
     j["radiometer"] = radiometer.name;
     j["dips"] = fits;
-    std::cout << j.dump(2) << "\n";
+    print_json(j);
   }
 }
 
