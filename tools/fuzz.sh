@@ -3,7 +3,7 @@
 # UndefinedBehaviorSanitizer in ./build-fuzz, and runs each for SECONDS (default 20) from a
 # corpus seeded with the project's own files (build-fuzz/corpus/<target>/, kept between runs).
 # A finding stops the run with the crashing input saved as build-fuzz/findings/<target>-*.
-#   tools/fuzz.sh                 # every target, 20 s each (what CI runs)
+#   tools/fuzz.sh                 # every target, 20 s each
 #   tools/fuzz.sh 600             # every target, 10 minutes each
 #   tools/fuzz.sh 600 scenario    # one target
 set -euo pipefail

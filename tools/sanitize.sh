@@ -1,5 +1,5 @@
 #!/usr/bin/env bash
-# Sanitizer runs (CI runs the first after tools/test.sh):
+# Sanitizer runs (run before landing a change to a reader, a writer or threaded code):
 #   tools/sanitize.sh           AddressSanitizer + UndefinedBehaviorSanitizer: the whole C++
 #                               suite, then the command-line tests (pytest) against the
 #                               sanitized skyphase. Build in ./build-asan.
