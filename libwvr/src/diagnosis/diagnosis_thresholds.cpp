@@ -66,7 +66,7 @@ DiagnosisThresholds parse_diagnosis_thresholds(const std::string& toml_text,
         hint = " (did you mean '" + *suggestion + "'?)";
       } else {
         hint = " (known:";
-        for (const std::string& name : known) hint += " " + name;
+        for (const std::string& known_name : known) hint += " " + known_name;
         hint += ")";
       }
       throw InvalidInput(source_name + ":" + std::to_string(key.source().begin.line) +
