@@ -58,6 +58,20 @@ def read_table(relative_path, skip_rows_after_header=0):
     return columns
 
 
+def cut_demo_scenario(path, *, duration_s, antenna_count):
+    """Writes the demo scenario cut to `duration_s` and `antenna_count` to `path`, its site
+    and radiometer files named by absolute path and its radiometer faults dropped (they name
+    antennas a small array lacks); returns `path`."""
+    data = pathlib.Path(TESTDATA).resolve()
+    text = (data / "demo-scenario.toml").read_text()
+    text = text.replace("duration_s = 7200.0", f"duration_s = {duration_s}")
+    text = text.replace("antenna_count = 40", f"antenna_count = {antenna_count}")
+    text = text.replace('site_file = "', f'site_file = "{data}/')
+    text = text.replace('radiometer_file = "', f'radiometer_file = "{data}/')
+    path.write_text(text[:text.index("[[faults]]")])
+    return path
+
+
 @pytest.fixture(scope="session")
 def testdata():
     return TESTDATA

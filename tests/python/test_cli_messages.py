@@ -2,14 +2,13 @@
 internals on stderr (std::bad_alloc, a JSON library's exception, filesystem wording)."""
 import json
 import os
-import pathlib
 import subprocess
 
 import h5py
 import pytest
+from conftest import cut_demo_scenario
 
 SKYPHASE = os.environ.get("WVR_SKYPHASE", "")
-TESTDATA = pathlib.Path(os.environ.get("WVR_TESTDATA_DIR", pathlib.Path(__file__).resolve().parents[2] / "testdata")).resolve()
 
 pytestmark = pytest.mark.usefixtures("skyphase")
 
@@ -28,11 +27,7 @@ def test_a_device_as_site_file_is_refused_by_name():
 
 def test_a_name_that_is_not_utf8_is_printed_not_fatal(tmp_path):
     # Before: the JSON library's type_error 316 after the whole command had run.
-    scenario = tmp_path / "s.toml"
-    text = (TESTDATA / "demo-scenario.toml").read_text()
-    text = text.replace("duration_s = 7200.0", "duration_s = 120.0").replace("antenna_count = 40", "antenna_count = 4")
-    text = text.replace('site_file = "', f'site_file = "{TESTDATA}/').replace('radiometer_file = "', f'radiometer_file = "{TESTDATA}/')
-    scenario.write_text(text[:text.index("[[faults]]")])
+    scenario = cut_demo_scenario(tmp_path / "s.toml", duration_s=120.0, antenna_count=4)
     night = tmp_path / "n.h5"
     assert run("simulate", str(scenario), "-o", str(night)).returncode == 0
     with h5py.File(night, "r+") as f:

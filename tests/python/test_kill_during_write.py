@@ -6,7 +6,6 @@ The kill times are spread from before the program has started to after it has fi
 assertions hold whatever the moment, so the test does not depend on the machine's speed."""
 import hashlib
 import os
-import pathlib
 import signal
 import subprocess
 import time
@@ -14,9 +13,9 @@ import time
 import pytest
 
 import wvr
+from conftest import cut_demo_scenario
 
 SKYPHASE = os.environ.get("WVR_SKYPHASE", "")
-TESTDATA = pathlib.Path(os.environ.get("WVR_TESTDATA_DIR", pathlib.Path(__file__).resolve().parents[2] / "testdata")).resolve()
 KILL_AFTER_S = [0.0, 0.01, 0.03, 0.06, 0.1, 0.2, 0.4, 0.8, 1.6]
 
 pytestmark = pytest.mark.usefixtures("skyphase")
@@ -30,12 +29,7 @@ def digest(path):
 def scenario(tmp_path_factory):
     """The demo scenario cut to 12 antennas x 20 minutes: a write takes a fraction of a second."""
     work = tmp_path_factory.mktemp("kill")
-    text = (TESTDATA / "demo-scenario.toml").read_text()
-    text = text.replace("duration_s = 7200.0", "duration_s = 1200.0").replace("antenna_count = 40", "antenna_count = 12")
-    text = text.replace('site_file = "', f'site_file = "{TESTDATA}/').replace('radiometer_file = "', f'radiometer_file = "{TESTDATA}/')
-    text = text[:text.index("[[faults]]")]
-    path = work / "kill.toml"
-    path.write_text(text)
+    path = cut_demo_scenario(work / "kill.toml", duration_s=1200.0, antenna_count=12)
     return path
 
 

@@ -11,6 +11,7 @@ import h5py
 import pytest
 
 import wvr
+from conftest import cut_demo_scenario
 
 SKYPHASE = os.environ.get("WVR_SKYPHASE", "")
 TESTDATA = os.path.abspath(os.environ.get("WVR_TESTDATA_DIR", os.path.join(os.path.dirname(__file__), "..", "..", "testdata")))
@@ -23,13 +24,7 @@ pytestmark = pytest.mark.usefixtures("skyphase")
 def small_night(tmp_path_factory):
     """The demo scenario cut to 8 antennas x 10 minutes, its radiometer faults dropped."""
     work = tmp_path_factory.mktemp("nothing-usable")
-    text = (pathlib.Path(TESTDATA) / "demo-scenario.toml").read_text()
-    text = text.replace("duration_s = 7200.0", "duration_s = 600.0").replace("antenna_count = 40", "antenna_count = 8")
-    text = text.replace('site_file = "', 'site_file = "' + TESTDATA + "/")
-    text = text.replace('radiometer_file = "', 'radiometer_file = "' + TESTDATA + "/")
-    text = text[:text.index("[[faults]]")]
-    scenario = work / "small.toml"
-    scenario.write_text(text)
+    scenario = cut_demo_scenario(work / "small.toml", duration_s=600.0, antenna_count=8)
     night = work / "small.h5"
     subprocess.run([SKYPHASE, "simulate", str(scenario), "-o", str(night)], check=True, capture_output=True)
     return night
