@@ -2,8 +2,10 @@
 models built on them, a reader for the reference CSV tables, the skyphase program, and the rule
 that a skipped test fails unless it is marked optional_dependency."""
 import csv
+import hashlib
 import os
 import pathlib
+import subprocess
 
 import numpy as np
 import pytest
@@ -70,6 +72,41 @@ def cut_demo_scenario(path, *, duration_s, antenna_count):
     text = text.replace('radiometer_file = "', f'radiometer_file = "{data}/')
     path.write_text(text[:text.index("[[faults]]")])
     return path
+
+
+def simulate_ms_night(path):
+    """The short demo night behind the MeasurementSet tests (600 s, 5 antennas), written to
+    `path`; returns `path`."""
+    scenario = wvr.load_scenario(TESTDATA / "demo-scenario.toml").with_overrides(
+        duration_s=600.0, antenna_count=5)
+    wvr.write_night(wvr.simulate_night(scenario, threads=1), path)
+    return path
+
+
+def correct_ms_with_skyphase(skyphase, ms, work, name):
+    """skyphase import, retrieve, calibrate and correct of `ms` (files work/name-*.h5); returns
+    the corrected night file."""
+    def run(*args):
+        done = subprocess.run([skyphase, *map(str, args)], capture_output=True, text=True)
+        assert done.returncode == 0, done.stderr
+
+    source = work / f"{name}-import.h5"
+    run("import", ms, "-o", source, "--brightness", "rayleigh-jeans")
+    for command in ("retrieve", "calibrate", "correct"):
+        out = work / f"{name}-{command}.h5"
+        run(command, source, "-o", out)
+        source = out
+    return source
+
+
+def tree_digest(path):
+    """SHA-256 over the names and bytes of every file under `path` (a table directory)."""
+    digest = hashlib.sha256()
+    for f in sorted(pathlib.Path(path).rglob("*")):
+        digest.update(str(f.relative_to(path)).encode())
+        if f.is_file():
+            digest.update(f.read_bytes())
+    return digest.hexdigest()
 
 
 @pytest.fixture(scope="session")

@@ -1,10 +1,11 @@
 """Writes a MeasurementSet from a night file with python-casacore only (no libwvr code): the
 independent writer behind the MeasurementSet tests and the demo.
 
-Layout: spectral window 0 holds the science band (one channel per requested frequency, at
-the scans' observing frequency by default, two parallel hands XX and YY); window 1 holds the
-radiometer (one channel per radiometer channel at LO + IF centre, width the IF bandwidth, one
-correlation), written as autocorrelation rows whose real part is the brightness. Calibrator
+Layout: spectral window 0 holds the science band (one channel at the scans' observing
+frequency by default, or channels at given offsets about it; two parallel hands XX and YY);
+extra science windows follow; the last window holds the radiometer (one channel per
+radiometer channel at LO + IF centre, width the IF bandwidth, one correlation), written as
+autocorrelation rows whose real part is the brightness. Calibrator
 visibilities have unit amplitude and the night's calibrator phase, for baseline
 (ANTENNA1, ANTENNA2) = (pair[0], pair[1]). Antenna positions are the night's east/north/up
 offsets turned into WGS84 Earth-fixed coordinates (NIMA TR8350.2 constants).
@@ -83,14 +84,17 @@ def _subtable(ms, name, rows):
 
 def write_ms(night_path, ms, *, clock_offset_s=0.0, pointing="azel", weather=True,
              drop_autocorrelations=(), flag_radiometer_rows=(), radiometer_window=True,
-             extra_science_windows=(), float_data=False, target_rows=True, duration_s=None):
+             extra_science_windows=(), science_channel_offsets_ghz=(0.0,), float_data=False,
+             target_rows=True, duration_s=None):
     """Writes `ms` from the night file. Options make the awkward archives of the tests:
     clock_offset_s adds to the radiometer rows' TIME; pointing "azel" stores the night's
     azimuth/elevation in POINTING, "none" leaves POINTING empty (FIELD directions only);
     drop_autocorrelations lists antenna indices without radiometer rows; flag_radiometer_rows
     lists (antenna, time index) samples written with FLAG_ROW; extra_science_windows adds
-    spectral windows (frequencies in GHz, one channel each) with calibrator rows of their own;
-    duration_s keeps only the main-table rows of the night's first duration_s seconds."""
+    spectral windows (frequencies in GHz) with calibrator rows of their own;
+    science_channel_offsets_ghz places each science window's channels at its frequency plus
+    these offsets (visibilities equal in every channel); duration_s keeps only the main-table
+    rows of the night's first duration_s seconds."""
     n = read_night(night_path)
     na, nt = len(n["names"]), len(n["time_s"])
     nc = len(n["if_ghz"])
@@ -106,7 +110,9 @@ def write_ms(night_path, ms, *, clock_offset_s=0.0, pointing="azel", weather=Tru
     t.close()
 
     science_freqs = [float(n["obs_freq"][0])] + [float(f) for f in extra_science_windows]
-    windows = [(f"science-{i}", np.array([f * 1e9]), np.array([0.05e9]))
+    offsets = np.asarray(science_channel_offsets_ghz, dtype=float)
+    nchan = len(offsets)
+    windows = [(f"science-{i}", (f + offsets) * 1e9, np.full(nchan, 0.05e9))
                for i, f in enumerate(science_freqs)]
     if radiometer_window:
         windows.append(("radiometer", (n["lo"] + n["if_ghz"]) * 1e9, n["bw_ghz"] * 1e9))
@@ -180,13 +186,13 @@ def write_ms(night_path, ms, *, clock_offset_s=0.0, pointing="azel", weather=Tru
         v = np.exp(1j * n["cp_phase"][r])
         for w in range(len(science_freqs)):
             rows.append((n["cp_time"][r], a, b, w, scan_rows[r],
-                         np.full((1, 2), v, dtype=np.complex64), False))
+                         np.full((nchan, 2), v, dtype=np.complex64), False))
     if target_rows:
         for s, intent in enumerate(n["intent"]):
             if intent != "target":
                 continue
             for time_s in n["time_s"][(n["time_s"] >= n["scan_start"][s]) & (n["time_s"] < n["scan_stop"][s])]:
-                rows.append((time_s, 0, 1, 0, s, np.ones((1, 2), dtype=np.complex64), False))
+                rows.append((time_s, 0, 1, 0, s, np.ones((nchan, 2), dtype=np.complex64), False))
 
     if duration_s is not None:
         rows = [r for r in rows if r[0] - clock_offset_s * (r[1] == r[2]) < n["time_s"][0] + duration_s]

@@ -2,7 +2,6 @@
 code) from a simulated night is imported, processed, exported and checked with casacore's own
 TaQL. Skipped only when libwvr was built without casacore (the optional component; ctest says
 so through WVR_EXPECT_ARCHIVE); python-casacore is then a declared dependency too."""
-import hashlib
 import os
 import pathlib
 import subprocess
@@ -21,6 +20,7 @@ if not wvr.HAS_MEASUREMENT_SETS:
 
 from casacore import tables as ct  # noqa: E402
 import ms_writer  # noqa: E402
+from conftest import correct_ms_with_skyphase, simulate_ms_night, tree_digest  # noqa: E402
 
 
 @pytest.fixture(scope="module")
@@ -29,13 +29,8 @@ def work(tmp_path_factory):
 
 
 @pytest.fixture(scope="module")
-def night_file(work, testdata):
-    scenario = wvr.load_scenario(testdata / "demo-scenario.toml").with_overrides(
-        duration_s=600.0, antenna_count=5)
-    night = wvr.simulate_night(scenario, threads=1)
-    path = work / "night.h5"
-    wvr.write_night(night, path)
-    return path
+def night_file(work):
+    return simulate_ms_night(work / "night.h5")
 
 
 @pytest.fixture(scope="module")
@@ -48,15 +43,6 @@ def ms(work, night_file):
 def import_ms(path, **options):
     options.setdefault("brightness", "rayleigh-jeans")
     return wvr.import_measurement_set(path, **options)
-
-
-def tree_digest(path):
-    digest = hashlib.sha256()
-    for f in sorted(pathlib.Path(path).rglob("*")):
-        digest.update(str(f.relative_to(path)).encode())
-        if f.is_file():
-            digest.update(f.read_bytes())
-    return digest.hexdigest()
 
 
 def site_provenance(night, tmp_path):
@@ -140,22 +126,14 @@ def test_pointing_from_field_matches_casacore_measures(work, night_file):
 
 def test_round_trip_metrics_recomputed_with_taql(work, ms, skyphase):
     before = tree_digest(ms)
-    imported = work / "imported.h5"
-
-    def run(*args):
-        done = subprocess.run([skyphase, *map(str, args)], capture_output=True, text=True)
-        assert done.returncode == 0, done.stderr
-        return done
-
-    run("import", ms, "-o", imported, "--brightness", "rayleigh-jeans")
-    run("retrieve", imported, "-o", work / "r.h5")
-    run("calibrate", work / "r.h5", "-o", work / "c.h5")
-    run("correct", work / "c.h5", "-o", work / "k.h5")
+    corrected_file = correct_ms_with_skyphase(skyphase, ms, work, "round-trip")
     out = work / "corrected.ms"
-    run("export", work / "k.h5", "--ms", ms, "-o", out)
+    done = subprocess.run([skyphase, "export", str(corrected_file), "--ms", str(ms), "-o", str(out)],
+                          capture_output=True, text=True)
+    assert done.returncode == 0, done.stderr
     assert tree_digest(ms) == before
 
-    corrected = wvr.read_night(work / "k.h5")
+    corrected = wvr.read_night(corrected_file)
     group = corrected.results["correction"]
     pairs = [tuple(p) for p in group["baseline_antennas"]]
     # casacore's TaQL: channel- and polarisation-averaged phase of calibrator rows.

@@ -1,6 +1,8 @@
 // skyphase import and skyphase export: MeasurementSets in and out (built with casacore).
+#include <filesystem>
 #include <iostream>
 #include <memory>
+#include <optional>
 #include <sstream>
 
 #include "commands.hpp"
@@ -97,20 +99,46 @@ struct ExportOptions {
   std::string night_file;
   std::string ms;
   std::string output;
+  std::string gain_table;
+  std::string radiometer_window;
   std::string site_file;
   bool overwrite = false;
 };
 
 void run_export(const ExportOptions& o) {
+  if (o.output.empty() && o.gain_table.empty())
+    throw wvr::InvalidInput("export needs -o OUT.ms, --gain-table OUT.gains, or both");
+  // Both outputs are refused before either is written, so a refusal leaves no half-done export.
+  for (const std::string& path : {o.output, o.gain_table})
+    if (!path.empty() && !o.overwrite && std::filesystem::exists(path))
+      throw wvr::InvalidInput("output " + path + " exists (--overwrite not set)");
   const wvr::Night night = wvr::read_night(o.night_file);
-  wvr::MsExportOptions options;
-  if (!o.site_file.empty()) options.site = wvr::load_site_config(o.site_file);
-  options.overwrite_output = o.overwrite;
-  const wvr::MsExport result = wvr::export_measurement_set(night, o.ms, o.output, options);
-  for (const std::string& note : result.notes) std::cerr << "note: " << note << "\n";
-  std::cout << "exported " << result.rows << " rows (" << result.rows_flagged
-            << " cross-correlation rows flagged for want of a correction)\n"
-            << "-> " << o.output << "\n";
+  std::optional<wvr::SiteConfig> site;
+  if (!o.site_file.empty()) site = wvr::load_site_config(o.site_file);
+  if (!o.output.empty()) {
+    wvr::MsExportOptions options;
+    options.site = site;
+    options.overwrite_output = o.overwrite;
+    const wvr::MsExport result = wvr::export_measurement_set(night, o.ms, o.output, options);
+    for (const std::string& note : result.notes) std::cerr << "note: " << note << "\n";
+    std::cout << "exported " << result.rows << " rows (" << result.rows_flagged
+              << " cross-correlation rows flagged for want of a correction)\n"
+              << "-> " << o.output << "\n";
+  }
+  if (!o.gain_table.empty()) {
+    wvr::GainTableOptions options;
+    options.site = site;
+    options.radiometer_window = o.radiometer_window;
+    options.overwrite_output = o.overwrite;
+    const wvr::GainTableExport result = wvr::export_gain_table(night, o.ms, o.gain_table, options);
+    for (const std::string& note : result.notes) std::cerr << "note: " << note << "\n";
+    std::string windows;
+    for (int w : result.spectral_windows)
+      windows += (windows.empty() ? "" : ",") + std::to_string(w);
+    std::cout << "gain table: " << result.solutions << " solutions (spectral windows " << windows
+              << "; " << result.solutions_flagged << " flagged for want of a correction)\n"
+              << "-> " << o.gain_table << "\n";
+  }
 }
 
 }  // namespace
@@ -144,15 +172,24 @@ void add_import_command(CLI::App& app) {
 void add_export_command(CLI::App& app) {
   auto options = std::make_shared<ExportOptions>();
   CLI::App* cmd =
-      app.add_subcommand("export", "Write a night's phase correction into a new MeasurementSet");
+      app.add_subcommand("export",
+                         "Write a night's phase correction into a new MeasurementSet and/or a "
+                         "gain table (at least one of -o and --gain-table)");
   cmd->add_option("night", options->night_file, "Corrected night file (HDF5)")
       ->required()
       ->check(CLI::ExistingFile);
   cmd->add_option("--ms", options->ms, "The MeasurementSet the night was imported from")
       ->required();
-  cmd->add_option("-o,--output", options->output, "New MeasurementSet to write")->required();
+  cmd->add_option("-o,--output", options->output,
+                  "New MeasurementSet to write (a copy with CORRECTED_DATA)");
+  cmd->add_option("--gain-table", options->gain_table,
+                  "Antenna-based gain table to write instead of (or besides) -o, in casacore's "
+                  "calibration-table layout, for general-purpose calibration software to apply");
+  cmd->add_option("--radiometer-window", options->radiometer_window,
+                  "Spectral window (index or NAME) left out of the gain table; default: the one "
+                  "near 183.31 GHz");
   cmd->add_option("--site", options->site_file, "Site file whose dispersion scales the phase");
-  cmd->add_flag("--overwrite", options->overwrite, "Replace an existing output");
+  cmd->add_flag("--overwrite", options->overwrite, "Replace existing outputs");
   cmd->callback([options] { run_export(*options); });
 }
 

@@ -124,4 +124,37 @@ seconds (radiometer stamp - correlator time).)doc");
       py::arg("site") = py::none(), py::arg("overwrite") = false, py::arg("chunk_rows") = 20000,
       "Writes a copy of the MS whose CORRECTED_DATA holds the night's correction applied; returns "
       "{rows, rows_flagged, notes}. The input MS is never written.");
+  m.def(
+      "export_gain_table",
+      [](const wvr::Night& night, const std::filesystem::path& ms,
+         const std::filesystem::path& output, const std::optional<std::filesystem::path>& site,
+         const std::string& radiometer_window, bool overwrite, std::size_t chunk_rows) {
+        wvr::GainTableOptions options;
+        if (site) options.site = wvr::load_site_config(*site);
+        options.radiometer_window = radiometer_window;
+        options.overwrite_output = overwrite;
+        options.chunk_rows = chunk_rows;
+        wvr::GainTableExport result;
+        {
+          py::gil_scoped_release release;
+          result = wvr::export_gain_table(night, ms, output, options);
+        }
+        py::dict d;
+        d["solutions"] = result.solutions;
+        d["solutions_flagged"] = result.solutions_flagged;
+        d["spectral_windows"] = result.spectral_windows;
+        d["radiometer_window"] = result.radiometer_window;
+        d["notes"] = result.notes;
+        return d;
+      },
+      py::arg("night"), py::arg("ms_path"), py::arg("output_path"), py::kw_only(),
+      py::arg("site") = py::none(), py::arg("radiometer_window") = "", py::arg("overwrite") = false,
+      py::arg("chunk_rows") = 20000, R"doc(
+Writes a new antenna-based gain table (casacore's calibration-table layout, complex gains) for
+the MS: one solution per correction time sample, spectral window (except the radiometer's, found
+as on import or named by radiometer_window) and antenna, g = exp(i phi s) at the window's centre
+frequency, flagged where the correction is unusable. Applied as V_ij / (g_i conj(g_j)) it gives
+export_measurement_set's CORRECTED_DATA at that frequency. Returns {solutions,
+solutions_flagged, spectral_windows, radiometer_window (-1: none identified), notes}. The input
+MS is never written.)doc");
 }

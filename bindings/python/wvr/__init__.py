@@ -293,9 +293,11 @@ __all__ = [
 
 # MeasurementSet import and export: present when libwvr was built with casacore.
 try:
-    from wvr._archive import estimate_clock_offsets, export_measurement_set, import_measurement_set
+    from wvr._archive import (estimate_clock_offsets, export_gain_table, export_measurement_set,
+                              import_measurement_set)
 except ImportError:
     HAS_MEASUREMENT_SETS = False
 else:
     HAS_MEASUREMENT_SETS = True
-    __all__ += ["estimate_clock_offsets", "export_measurement_set", "import_measurement_set"]
+    __all__ += ["estimate_clock_offsets", "export_gain_table", "export_measurement_set",
+                "import_measurement_set"]

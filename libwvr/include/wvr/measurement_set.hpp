@@ -8,8 +8,9 @@
 //   wvr::MsImport imported = wvr::import_measurement_set("obs.ms", options);
 //   wvr::write_night(imported.night, "night.h5");
 //   ... retrieve, calibrate, correct ...
-//   wvr::export_corrected_measurement_set(wvr::read_night("corrected.h5"), "obs.ms",
-//                                         "obs-corrected.ms");
+//   wvr::export_measurement_set(wvr::read_night("corrected.h5"), "obs.ms", "obs-corrected.ms");
+//   // or gains for general-purpose calibration software to apply:
+//   wvr::export_gain_table(wvr::read_night("corrected.h5"), "obs.ms", "obs-wvr.gains");
 
 #include <array>
 #include <filesystem>
@@ -121,5 +122,37 @@ MsExport export_measurement_set(const Night& night,
                                 const std::filesystem::path& ms,
                                 const std::filesystem::path& output,
                                 const MsExportOptions& options = {});
+
+struct GainTableOptions {
+  // As MsExportOptions::site.
+  std::optional<SiteConfig> site;
+  // Spectral window of the radiometer, left without solutions, by index or NAME; empty: the
+  // one whose channels all lie within 20 GHz of 183.31 GHz (as on import); when no window
+  // qualifies every window gets solutions (and a note says so).
+  std::string radiometer_window;
+  bool overwrite_output = false;
+  std::size_t chunk_rows = 20000;  // main-table rows read per chunk (scan and field lookup)
+};
+
+struct GainTableExport {
+  std::size_t solutions = 0;          // gain-table rows (time x window x antenna)
+  std::size_t solutions_flagged = 0;  // rows flagged: no usable correction for that sample
+  std::vector<int> spectral_windows;  // the MS windows that have solutions
+  int radiometer_window = -1;         // the window left out (-1: none identified)
+  std::vector<std::string> notes;
+};
+
+// Writes `output` (a new casacore table; `ms` is only read): an antenna-based complex gain
+// table in casacore's calibration-table layout (see ARCHIVE.md for the columns and keywords),
+// one solution per correction time sample, spectral window of `ms` (except the radiometer's)
+// and antenna: g = exp(i phi s(f)) with phi the antenna's correction phase and s the dispersion
+// scaling to the window's centre frequency f, amplitude 1, flagged where the correction is
+// unusable. Applied as V_ij / (g_i conj(g_j)) it reproduces export_measurement_set's
+// CORRECTED_DATA at f. The output appears only once complete. Throws InvalidInput as
+// export_measurement_set does, and when the MS has no cross-correlation rows.
+GainTableExport export_gain_table(const Night& night,
+                                  const std::filesystem::path& ms,
+                                  const std::filesystem::path& output,
+                                  const GainTableOptions& options = {});
 
 }  // namespace wvr

@@ -38,25 +38,6 @@ bool phase_at(const CorrectionPlan& plan, std::size_t a, double t, double* phase
   return true;
 }
 
-void add_history(const std::filesystem::path& ms, const std::string& message, double time_mjd_s) {
-  casacore::Table history((ms / "HISTORY").string(),
-                          casacore::TableLock(casacore::TableLock::NoLocking),
-                          casacore::Table::Update);
-  const casacore::rownr_t row = history.nrow();
-  history.addRow();
-  casacore::ScalarColumn<double>(history, "TIME").put(row, time_mjd_s);
-  casacore::ScalarColumn<int>(history, "OBSERVATION_ID").put(row, 0);
-  casacore::ScalarColumn<casacore::String>(history, "MESSAGE").put(row, message);
-  casacore::ScalarColumn<casacore::String>(history, "PRIORITY").put(row, "NORMAL");
-  casacore::ScalarColumn<casacore::String>(history, "ORIGIN").put(row, "libwvr");
-  casacore::ScalarColumn<int>(history, "OBJECT_ID").put(row, 0);
-  casacore::ScalarColumn<casacore::String>(history, "APPLICATION").put(row, "skyphase export");
-  const casacore::Vector<casacore::String> none(1, "");
-  casacore::ArrayColumn<casacore::String>(history, "CLI_COMMAND").put(row, none);
-  casacore::ArrayColumn<casacore::String>(history, "APP_PARAMS").put(row, none);
-  history.flush();
-}
-
 }  // namespace
 
 CorrectedCopyResult write_corrected_copy(const std::filesystem::path& ms,
@@ -157,7 +138,8 @@ CorrectedCopyResult write_corrected_copy(const std::filesystem::path& ms,
     }
   }
   out.flush();
-  add_history(temporary, plan.history, plan.time_mjd_s.empty() ? 0.0 : plan.time_mjd_s.back());
+  append_history(temporary / "HISTORY", plan.history,
+                 plan.time_mjd_s.empty() ? 0.0 : plan.time_mjd_s.back(), "skyphase export");
   return result;
 }
 

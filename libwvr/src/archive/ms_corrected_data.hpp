@@ -2,22 +2,11 @@
 // Writes a corrected copy of a MeasurementSet (casacore side of the export; C++17, see
 // casacore_guard.hpp).
 
-#include <cstdint>
 #include <filesystem>
-#include <functional>
-#include <string>
-#include <vector>
+
+#include "archive/correction_plan.hpp"
 
 namespace wvr::archive {
-
-// Antenna correction phases on a time grid, at the reference frequency.
-struct CorrectionPlan {
-  std::vector<double> time_mjd_s;             // [time], increasing
-  std::vector<double> phase_rad;              // [antenna, time]: add to the antenna's phase
-  std::vector<std::uint8_t> usable;           // [antenna, time]
-  std::function<double(double)> phase_scale;  // phase at freq_ghz / phase at the reference
-  std::string history;                        // HISTORY MESSAGE
-};
 
 struct CorrectedCopyResult {
   std::size_t rows = 0;

@@ -131,6 +131,26 @@ MsMetadata read_ms_metadata(const std::filesystem::path& ms) {
   return m;
 }
 
+std::vector<int> windows_near_water_line(const MsMetadata& metadata, double halfwidth_ghz) {
+  std::vector<int> matches;
+  for (std::size_t i = 0; i < metadata.spectral_windows.size(); ++i) {
+    bool near = true;
+    for (double f : metadata.spectral_windows[i].chan_freq_ghz)
+      near = near && std::abs(f - kWaterLineGhz) <= halfwidth_ghz;
+    if (near) matches.push_back(static_cast<int>(i));
+  }
+  return matches;
+}
+
+std::string describe_water_line_search(const MsMetadata& metadata, double halfwidth_ghz) {
+  std::ostringstream searched;
+  searched << "channels all within " << halfwidth_ghz << " GHz of " << kWaterLineGhz
+           << " GHz; searched SPECTRAL_WINDOW ";
+  for (std::size_t i = 0; i < metadata.spectral_windows.size(); ++i)
+    searched << (i ? "; " : "") << describe_window(i, metadata.spectral_windows[i]);
+  return searched.str();
+}
+
 int find_radiometer_window(const MsMetadata& metadata,
                            const std::string& requested,
                            double halfwidth_ghz,
@@ -146,23 +166,13 @@ int find_radiometer_window(const MsMetadata& metadata,
     throw InvalidInput(ms_label + ": radiometer_window = '" + requested +
                        "' matches no spectral window index or NAME (windows: " + listed + ")");
   }
-  std::vector<int> matches;
-  std::string listed;
-  for (std::size_t i = 0; i < windows.size(); ++i) {
-    listed += (i ? "; " : "") + describe_window(i, windows[i]);
-    bool near = true;
-    for (double f : windows[i].chan_freq_ghz)
-      near = near && std::abs(f - kWaterLineGhz) <= halfwidth_ghz;
-    if (near) matches.push_back(static_cast<int>(i));
-  }
-  std::ostringstream searched;
-  searched << "channels all within " << halfwidth_ghz << " GHz of " << kWaterLineGhz
-           << " GHz; searched SPECTRAL_WINDOW " << listed;
+  const std::vector<int> matches = windows_near_water_line(metadata, halfwidth_ghz);
+  const std::string searched = describe_water_line_search(metadata, halfwidth_ghz);
   if (matches.empty())
-    throw InvalidInput(ms_label + ": no radiometer spectral window (" + searched.str() + ")");
+    throw InvalidInput(ms_label + ": no radiometer spectral window (" + searched + ")");
   if (matches.size() > 1)
     throw InvalidInput(ms_label + ": several spectral windows could be the radiometer (" +
-                       searched.str() + "); name one with radiometer_window");
+                       searched + "); name one with radiometer_window");
   return matches.front();
 }
 

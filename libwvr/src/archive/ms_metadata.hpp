@@ -40,6 +40,12 @@ struct MsMetadata {
 // InvalidInput naming the subtable and column for anything missing or inconsistent.
 MsMetadata read_ms_metadata(const std::filesystem::path& ms);
 
+// The spectral windows whose channels all lie within halfwidth_ghz of 183.31 GHz.
+std::vector<int> windows_near_water_line(const MsMetadata& metadata, double halfwidth_ghz);
+
+// What windows_near_water_line searched, for messages: the criterion and every window.
+std::string describe_water_line_search(const MsMetadata& metadata, double halfwidth_ghz);
+
 // The spectral window holding the radiometer: `requested` by index or NAME, else the one
 // whose channels all lie within halfwidth_ghz of 183.31 GHz. The error lists the windows
 // searched when none (or several) qualify.

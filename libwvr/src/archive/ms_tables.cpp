@@ -4,6 +4,8 @@
 #include <casacore/casa/Exceptions/Error.h>
 #include <casacore/casa/Logging/LogFilter.h>
 #include <casacore/casa/Logging/LogSink.h>
+#include <casacore/tables/Tables/ArrayColumn.h>
+#include <casacore/tables/Tables/ScalarColumn.h>
 #include <casacore/tables/Tables/TableColumn.h>
 #include <casacore/tables/Tables/TableLock.h>
 #include <casacore/tables/Tables/TableRecord.h>
@@ -47,6 +49,28 @@ std::string column_unit(const casacore::Table& table, const std::string& column)
   if (field < 0) return "";
   const casacore::Vector<casacore::String> units = keywords.asArrayString(field);
   return units.empty() ? "" : std::string(units[0]);
+}
+
+void append_history(const std::filesystem::path& history_table,
+                    const std::string& message,
+                    double time_mjd_s,
+                    const std::string& application) {
+  casacore::Table history(history_table.string(),
+                          casacore::TableLock(casacore::TableLock::NoLocking),
+                          casacore::Table::Update);
+  const casacore::rownr_t row = history.nrow();
+  history.addRow();
+  casacore::ScalarColumn<double>(history, "TIME").put(row, time_mjd_s);
+  casacore::ScalarColumn<int>(history, "OBSERVATION_ID").put(row, 0);
+  casacore::ScalarColumn<casacore::String>(history, "MESSAGE").put(row, message);
+  casacore::ScalarColumn<casacore::String>(history, "PRIORITY").put(row, "NORMAL");
+  casacore::ScalarColumn<casacore::String>(history, "ORIGIN").put(row, "libwvr");
+  casacore::ScalarColumn<int>(history, "OBJECT_ID").put(row, 0);
+  casacore::ScalarColumn<casacore::String>(history, "APPLICATION").put(row, application);
+  const casacore::Vector<casacore::String> none(1, "");
+  casacore::ArrayColumn<casacore::String>(history, "CLI_COMMAND").put(row, none);
+  casacore::ArrayColumn<casacore::String>(history, "APP_PARAMS").put(row, none);
+  history.flush();
 }
 
 void with_casacore_errors(const std::string& label, const std::function<void()>& body) {

@@ -23,6 +23,13 @@ void require_column(const casacore::Table& table,
                     const std::string& table_label,
                     const std::string& name);
 
+// Appends a row to a HISTORY table in the MeasurementSet layout (TIME, OBSERVATION_ID, MESSAGE,
+// PRIORITY, ORIGIN, OBJECT_ID, APPLICATION, CLI_COMMAND, APP_PARAMS): origin libwvr.
+void append_history(const std::filesystem::path& history_table,
+                    const std::string& message,
+                    double time_mjd_s,
+                    const std::string& application);
+
 // The unit of a column from its QuantumUnits keyword ("" when absent).
 std::string column_unit(const casacore::Table& table, const std::string& column);
 

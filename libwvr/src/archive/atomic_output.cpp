@@ -1,0 +1,43 @@
+#include "archive/atomic_output.hpp"
+
+#include <unistd.h>
+
+#include <string>
+
+#include "wvr/error.hpp"
+
+namespace wvr::archive {
+
+void check_output_path(const std::filesystem::path& output,
+                       const std::filesystem::path& ms,
+                       bool overwrite) {
+  namespace fs = std::filesystem;
+  std::error_code ec;
+  if (fs::exists(output, ec) && fs::equivalent(output, ms, ec))
+    throw InvalidInput("output " + output.string() +
+                       " is the input MS; the input is never written");
+  if (fs::exists(output) && !overwrite)
+    throw InvalidInput("output " + output.string() + " exists (overwrite_output not set)");
+}
+
+void write_then_rename(const std::filesystem::path& output,
+                       const std::function<void(const std::filesystem::path&)>& write) {
+  namespace fs = std::filesystem;
+  // Absolute: with a relative output in the working directory casacore failed to open the
+  // copy it had just made ("No such file or directory").
+  const fs::path absolute = fs::absolute(output);
+  const fs::path temporary = absolute.parent_path() / (".tmp-" + absolute.filename().string() +
+                                                       "-" + std::to_string(::getpid()));
+  std::error_code ec;
+  fs::remove_all(temporary, ec);
+  try {
+    write(temporary);
+    if (fs::exists(output)) fs::remove_all(output);
+    fs::rename(temporary, output);
+  } catch (...) {
+    fs::remove_all(temporary, ec);
+    throw;
+  }
+}
+
+}  // namespace wvr::archive
