@@ -26,12 +26,15 @@ echo
 build/tools/skyphase report out/demo-night.h5 -o out/demo-report
 echo
 # MeasurementSet round trip (when built with casacore): the first 20 minutes of the demo night
-# written as an MS by python-casacore, imported, processed, and exported with CORRECTED_DATA.
+# written as an MS by python-casacore, imported, processed, and exported with CORRECTED_DATA and
+# as an antenna-based gain table.
 if build/tools/skyphase import --help > /dev/null 2>&1; then
-  rm -rf out/demo.ms out/demo-corrected.ms
+  rm -rf out/demo.ms out/demo-corrected.ms out/demo.gains
   /usr/bin/python3 tests/python/ms_writer.py out/demo-night.h5 out/demo.ms 1200
   build/tools/skyphase import out/demo.ms -o out/demo-ms-night.h5 --brightness rayleigh-jeans --overwrite
   build/tools/skyphase correct out/demo-ms-night.h5 -o out/demo-ms-corrected.h5 --overwrite
-  build/tools/skyphase export out/demo-ms-corrected.h5 --ms out/demo.ms -o out/demo-corrected.ms
-  taql "select gcount() as rows, gsum(FLAG_ROW) as flagged from out/demo-corrected.ms where ANTENNA1 != ANTENNA2"
+  build/tools/skyphase export out/demo-ms-corrected.h5 --ms out/demo.ms -o out/demo-corrected.ms \
+    --gain-table out/demo.gains
+  taql "select gcount() as rows, gntrue(FLAG_ROW) as flagged from out/demo-corrected.ms where ANTENNA1 != ANTENNA2"
+  taql "select gcount() as solutions, gntrue(any(FLAG)) as flagged from out/demo.gains"
 fi

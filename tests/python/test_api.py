@@ -2,7 +2,10 @@
 module, and documentation on every public name."""
 import ast
 import inspect
+import os
 import pathlib
+
+import pytest
 
 import wvr
 from wvr import _core
@@ -54,6 +57,28 @@ def test_stub_matches_the_compiled_module():
         if issubclass(cls, Exception):
             continue
         assert members == actual, name
+
+
+@pytest.mark.optional_dependency("the MeasurementSet part is built only with casacore")
+def test_archive_stub_matches_its_compiled_module():
+    if not wvr.HAS_MEASUREMENT_SETS:
+        assert os.environ.get("WVR_EXPECT_ARCHIVE") != "1", "built with casacore, no wvr._archive"
+        pytest.skip("libwvr built without casacore")
+    from wvr import _archive
+    stub = pathlib.Path(wvr.__file__).with_name("_archive.pyi")
+    functions, classes, _ = stub_names(ast.parse(stub.read_text()))
+    module_functions = {n for n, v in vars(_archive).items()
+                        if not n.startswith("_") and inspect.isbuiltin(v)}
+    assert functions == module_functions
+    assert classes == {}
+    for name in functions:
+        assert name in wvr.__all__, name
+        # Keyword names and defaults as the stub states them (pybind11 signature line).
+        signature = getattr(_archive, name).__doc__.splitlines()[0]
+        stub_function = next(n for n in ast.parse(stub.read_text()).body
+                             if isinstance(n, ast.FunctionDef) and n.name == name)
+        for argument in stub_function.args.args + stub_function.args.kwonlyargs:
+            assert argument.arg + ":" in signature, (name, argument.arg)
 
 
 def test_public_names_are_documented():
