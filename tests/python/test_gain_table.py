@@ -311,3 +311,14 @@ def test_radiometer_window_named_or_absent(work, ms, corrected_file):
     result = wvr.export_gain_table(night, no_radiometer, work / "all.gains")
     assert result["spectral_windows"] == [0] and result["radiometer_window"] == -1
     assert any("no radiometer spectral window" in n for n in result["notes"])
+
+
+def test_relative_output_paths(work, ms, corrected_file, skyphase):
+    """Outputs named relative to the working directory (casacore fails to reopen a copy made
+    under a relative name unless the library makes it absolute)."""
+    done = subprocess.run([skyphase, "export", str(corrected_file), "--ms", str(ms), "-o",
+                           "relative.ms", "--gain-table", "relative.gains"],
+                          capture_output=True, text=True, cwd=work)
+    assert done.returncode == 0, done.stderr
+    assert ct.tableexists(str(work / "relative.ms")) and ct.tableexists(str(work / "relative.gains"))
+    assert leftovers(work, ".tmp-") == []
