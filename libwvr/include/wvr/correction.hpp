@@ -56,6 +56,11 @@ struct PhaseCorrections {
   std::vector<double> phase_correction_rad;  // [antenna, time]; 0 where flagged
   std::vector<double> path_mm;               // [antenna, time]; NaN where flagged
   std::vector<std::uint8_t> flags;           // [antenna, time], CorrectorFlag bits
+  // [antenna, time]: 0 measured; 1, 2 the path was predicted from other antennas (neighbours,
+  // frozen flow; wvr/path_prediction.hpp), its flags cleared. All 0 from
+  // compute_phase_corrections.
+  std::vector<std::uint8_t> path_predicted;
+  std::vector<double> predicted_expected_residual_mm;  // [antenna]; NaN where none predicted
 };
 
 PhaseCorrections compute_phase_corrections(const Night& night,

@@ -32,6 +32,7 @@
 #include "wvr/night_site.hpp"
 #include "wvr/night_turbulence.hpp"
 #include "wvr/observing_frequency.hpp"
+#include "wvr/path_prediction.hpp"
 
 namespace wvr {
 
@@ -54,6 +55,9 @@ struct NightProcessingOptions {
   std::optional<double> obs_freq_ghz;
   DiagnosisThresholds thresholds;
   TurbulenceOptions turbulence;
+  // Paths of antennas whose radiometer gave no samples, predicted from the others for the
+  // metrics and corrections (from kCalibration on; the scaling solve uses measured paths).
+  PathPredictionOptions path_prediction;
   NightStage last_stage = NightStage::kTurbulence;
   bool reuse_stored_results = true;
   // Throw NothingUsable when the calibrator rows give no scale (for a caller whose job is the
@@ -71,6 +75,9 @@ struct NightProcessingResult {
   bool retrieval_reused = false;
   CoefficientWindows coefficients;
   AntennaPaths paths;
+  // From kCalibration on, when some radiometer samples were missing: the predicted paths
+  // (metrics and corrections use them; `paths` stays the measured ones).
+  std::optional<PredictedPaths> path_prediction;
   std::optional<CalibrationResult> calibration;  // from kCalibration on
   bool calibration_reused = false;
   std::optional<CorrectionMetrics> metrics;     // from kCalibration on

@@ -139,6 +139,8 @@ PhaseCorrections compute_phase_corrections(const Night& night,
   out.phase_correction_rad.resize(na * nt);
   out.path_mm.resize(na * nt);
   out.flags.resize(na * nt);
+  out.path_predicted.assign(na * nt, 0);
+  out.predicted_expected_residual_mm.assign(na, std::nan(""));
   std::vector<double> brightness(na * nc), path(na), phase(na);
   std::vector<std::uint8_t> valid(na), flags(na);
   for (std::size_t k = 0; k < nt; ++k) {
@@ -375,6 +377,20 @@ ResultGroup correction_result_group(const PhaseCorrections& p, const CorrectionM
                         p.flags,
                         "1",
                         {{"bits", "1 no data, 2 bad brightness, 4 no coefficients"}}});
+  // Corrections made by hand may leave the prediction fields empty: nothing was predicted.
+  g.datasets.push_back({"path_predicted",
+                        {na, nt},
+                        p.path_predicted.size() == na * nt ? p.path_predicted
+                                                           : std::vector<std::uint8_t>(na * nt, 0),
+                        "1",
+                        {{"values", "0 measured, 1 predicted from neighbours, 2 by frozen flow"}}});
+  g.datasets.push_back({"predicted_path_expected_residual_mm",
+                        {na},
+                        p.predicted_expected_residual_mm.size() == na
+                            ? p.predicted_expected_residual_mm
+                            : std::vector<double>(na, std::nan("")),
+                        "mm",
+                        {}});
   g.datasets.push_back({"antenna_scale", {na}, p.antenna_scale, "1", {}});
   g.datasets.push_back({"corrected_calibrator_phase_rad",
                         {m.corrected_phase_rad.size()},

@@ -114,6 +114,7 @@ void NightProcessingOptions::validate() const {
                        " is not a positive frequency (GHz)");
   thresholds.validate();
   turbulence.validate();
+  path_prediction.validate();
 }
 
 std::string retrieval_processing_key(const NightRetrievalOptions& o) {
@@ -224,7 +225,11 @@ NightProcessingResult process_night(const Night& night, const NightProcessingOpt
     r.calibration->antenna_scale.assign(night.antenna_count(), 1.0);
   if (r.calibration->antenna_scale_sigma.empty())
     r.calibration->antenna_scale_sigma.assign(night.antenna_count(), 0.0);
-  r.metrics = evaluate_correction(night, r.paths, r.calibration->antenna_scale, r.phase_per_path);
+  r.path_prediction =
+      predict_night_missing_paths(night, r.retrieval, r.paths, options.path_prediction);
+  if (r.path_prediction) r.notes.push_back(r.path_prediction->brief_report(night));
+  r.metrics = evaluate_correction(night, r.path_prediction ? r.path_prediction->paths : r.paths,
+                                  r.calibration->antenna_scale, r.phase_per_path);
   if (!at_least(options, NightStage::kCorrection)) return r;
 
   // Phase corrections at the observing frequency.
@@ -232,6 +237,7 @@ NightProcessingResult process_night(const Night& night, const NightProcessingOpt
   r.corrections =
       compute_phase_corrections(night, r.coefficients, r.calibration->antenna_scale,
                                 r.obs_freq->freq_ghz, r.phase_per_path(r.obs_freq->freq_ghz));
+  if (r.path_prediction) apply_predicted_paths(*r.corrections, *r.path_prediction);
   r.result_groups.push_back(correction_result_group(*r.corrections, *r.metrics));
   if (!at_least(options, NightStage::kDiagnosis)) return r;
 
