@@ -27,7 +27,7 @@ SCENARIO = TESTDATA / "scenarios" / "short-eventful-night.toml"
 FIGURES = ("pwv", "phases", "timeline", "structure", "antennas")
 SECTIONS = {"schema", "title", "night", "site", "processing", "retrieval", "calibration",
             "correction", "verdict_counts", "episodes", "radiometer_faults", "antennas",
-            "windows", "turbulence", "thresholds"}
+            "windows", "turbulence", "thresholds", "path_prediction"}
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
 
 

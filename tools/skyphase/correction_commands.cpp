@@ -7,6 +7,7 @@
 
 #include "commands.hpp"
 #include "output.hpp"
+#include "path_prediction_json.hpp"
 #include "pipeline.hpp"
 #include "wvr/calibration.hpp"
 #include "wvr/correction.hpp"
@@ -20,7 +21,7 @@ namespace skyphase {
 namespace {
 
 void print_summary(const wvr::Night& night,
-                   const wvr::CorrectionMetrics& m,
+                   const wvr::NightProcessingResult& result,
                    std::span<const double> antenna_scale,
                    std::span<const double> antenna_scale_sigma,
                    double scale,
@@ -29,6 +30,7 @@ void print_summary(const wvr::Night& night,
                    const std::string& status,
                    const std::string& output,
                    Format format) {
+  const wvr::CorrectionMetrics& m = *result.metrics;
   if (format == Format::kJson) {
     nlohmann::ordered_json j;
     j["scale"] = scale;
@@ -54,6 +56,7 @@ void print_summary(const wvr::Night& night,
                           {"coherence_after", am.coherence_after}});
     }
     j["antennas"] = antennas;
+    j["path_prediction"] = path_prediction_json(night, result);
     j["output"] = output;
     print_json(j);
     return;
@@ -91,17 +94,16 @@ void run_calibrate(const CalibrateOptions& o) {
   const Processed p = process_and_write(o.common, options);
   const wvr::CalibrationResult& c = *p.result.calibration;
   if (o.common.format != Format::kJson) print_notes(p.result);
-  print_summary(p.night, *p.result.metrics, c.antenna_scale, c.antenna_scale_sigma, c.scale,
-                c.scale_sigma, c.ok(), c.brief_report(), o.common.output_file, o.common.format);
+  print_summary(p.night, p.result, c.antenna_scale, c.antenna_scale_sigma, c.scale, c.scale_sigma,
+                c.ok(), c.brief_report(), o.common.output_file, o.common.format);
 }
 
 void run_correct(const CommonOptions& o) {
   const Processed p = process_and_write(o, processing_options(o, wvr::NightStage::kCorrection));
   const wvr::CalibrationResult& c = *p.result.calibration;
   if (o.format != Format::kJson) print_notes(p.result);
-  print_summary(p.night, *p.result.metrics, c.antenna_scale, c.antenna_scale_sigma, c.scale,
-                c.scale_sigma, c.ok(),
-                p.result.calibration_reused ? "calibration applied" : c.brief_report(),
+  print_summary(p.night, p.result, c.antenna_scale, c.antenna_scale_sigma, c.scale, c.scale_sigma,
+                c.ok(), p.result.calibration_reused ? "calibration applied" : c.brief_report(),
                 o.output_file, o.format);
 }
 

@@ -9,6 +9,7 @@
 #include "commands.hpp"
 #include "diagnose_output.hpp"
 #include "output.hpp"
+#include "path_prediction_json.hpp"
 #include "pipeline.hpp"
 #include "wvr/diagnosis.hpp"
 #include "wvr/error.hpp"
@@ -96,6 +97,7 @@ DiagnosedNight diagnose_and_write(const CommonOptions& o) {
   j["site"] = site_json(r.site);
   j["obs_freq_ghz"] = r.obs_freq->freq_ghz;
   j["obs_freq_source"] = wvr::to_string(r.obs_freq->source);
+  j["path_prediction"] = path_prediction_json(night, r);
   const nlohmann::ordered_json structure = turbulence_json(night, *r.turbulence);
   for (const auto& [key, value] : structure.items()) j[key] = value;
   nlohmann::ordered_json notes = diagnosis.notes;

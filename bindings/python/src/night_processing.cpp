@@ -68,8 +68,14 @@ NightProcessingResult run(const Night& night,
                           double advice_target_rms_deg,
                           const std::string& last_stage,
                           bool reuse_stored_results,
-                          int threads) {
+                          int threads,
+                          const std::string& path_prediction) {
   NightProcessingOptions options;
+  if (path_prediction == "off") {
+    options.path_prediction.enabled = false;
+  } else {
+    options.path_prediction.method = path_prediction_method_from_string(path_prediction);
+  }
   options.site = std::move(site);
   if (window_s || fit_liquid || fit_temperature) {
     NightRetrievalOptions retrieval;
@@ -341,7 +347,58 @@ void export_correction_types(py::module_& m) {
       .def_property_readonly("path_mm", view<PhaseCorrections, double>(&PhaseCorrections::path_mm,
                                                                        corrections_antenna_time))
       .def_property_readonly("flags", view<PhaseCorrections, std::uint8_t>(
-                                          &PhaseCorrections::flags, corrections_antenna_time));
+                                          &PhaseCorrections::flags, corrections_antenna_time))
+      .def_property_readonly(
+          "path_predicted",
+          view<PhaseCorrections, std::uint8_t>(&PhaseCorrections::path_predicted,
+                                               corrections_antenna_time),
+          "[antenna, time] 0 measured, 1 predicted from neighbours, 2 by frozen flow")
+      .def_property_readonly("predicted_expected_residual_mm",
+                             view_1d(&PhaseCorrections::predicted_expected_residual_mm),
+                             "[antenna] (mm), NaN where nothing was predicted");
+  py::class_<PredictedPaths>(m, "PredictedPaths", R"doc(
+Paths of antennas whose radiometer gave no samples, predicted from the other antennas by
+kriging under the measured structure function (neighbours, or frozen flow with upwind samples
+shifted by the wind). sample_method: [antenna, time] 0 measured, 1 neighbours, 2 frozen flow.
+)doc")
+      .def_property_readonly("method", [](const PredictedPaths& p) { return to_string(p.method); })
+      .def_readonly("paths", &PredictedPaths::paths)
+      .def_property_readonly("sample_method",
+                             view<PredictedPaths, std::uint8_t>(
+                                 &PredictedPaths::sample_method,
+                                 [](const PredictedPaths& p) { return antenna_time(p.paths); }))
+      .def_readonly("predicted_samples", &PredictedPaths::predicted_samples)
+      .def_readonly("frozen_flow_samples", &PredictedPaths::frozen_flow_samples)
+      .def_property_readonly("expected_residual_mm", view_1d(&PredictedPaths::expected_residual_mm),
+                             "[antenna] (mm), NaN for antennas without predicted samples")
+      .def_property_readonly("mean_donors", view_1d(&PredictedPaths::mean_donors))
+      .def_readonly("structure_thickness_m", &PredictedPaths::structure_thickness_m)
+      .def_readonly("wind_speed_m_s", &PredictedPaths::wind_speed_m_s)
+      .def_readonly("wind_direction_to_deg", &PredictedPaths::wind_direction_to_deg)
+      .def_readonly("message", &PredictedPaths::message)
+      .def("any", &PredictedPaths::any)
+      .def("brief_report", &PredictedPaths::brief_report, py::arg("night"));
+  py::class_<PredictedAntennaResidual>(m, "PredictedAntennaResidual",
+                                       "A predicted antenna beside the healthy ones.")
+      .def_readonly("antenna", &PredictedAntennaResidual::antenna)
+      .def_readonly("predicted_samples", &PredictedAntennaResidual::predicted_samples)
+      .def_readonly("frozen_flow_samples", &PredictedAntennaResidual::frozen_flow_samples)
+      .def_readonly("expected_residual_mm", &PredictedAntennaResidual::expected_residual_mm)
+      .def_readonly("expected_residual_deg", &PredictedAntennaResidual::expected_residual_deg)
+      .def_readonly("expected_phase_rms_after_deg",
+                    &PredictedAntennaResidual::expected_phase_rms_after_deg)
+      .def_readonly("phase_rms_after_deg", &PredictedAntennaResidual::phase_rms_after_deg);
+  py::class_<PathPredictionSummary>(m, "PathPredictionSummary",
+                                    "Predicted antennas' expected residual beside the healthy "
+                                    "antennas' corrected calibrator phase rms.")
+      .def_property_readonly("method",
+                             [](const PathPredictionSummary& s) { return to_string(s.method); })
+      .def_readonly("message", &PathPredictionSummary::message)
+      .def_readonly("freq_ghz", &PathPredictionSummary::freq_ghz)
+      .def_readonly("healthy_phase_rms_after_deg",
+                    &PathPredictionSummary::healthy_phase_rms_after_deg)
+      .def_readonly("healthy_antennas", &PathPredictionSummary::healthy_antennas)
+      .def_readonly("antennas", &PathPredictionSummary::antennas);
 }
 
 void export_diagnosis_types(py::module_& m) {
@@ -434,6 +491,21 @@ read-only views owned by this object.
       .def_readonly("corrections", &NightProcessingResult::corrections)
       .def_readonly("diagnosis", &NightProcessingResult::diagnosis)
       .def_readonly("turbulence", &NightProcessingResult::turbulence)
+      .def_readonly("path_prediction", &NightProcessingResult::path_prediction,
+                    "PredictedPaths when some radiometer samples were missing, else None")
+      .def(
+          "path_prediction_summary",
+          [](const NightProcessingResult& r, std::optional<double> freq_ghz) -> py::object {
+            if (!r.path_prediction || !r.metrics) return py::none();
+            const double f = freq_ghz ? *freq_ghz : r.obs_freq ? r.obs_freq->freq_ghz : 0.0;
+            if (!(f > 0.0))
+              throw InvalidInput("freq_ghz is needed: the result has no observing frequency");
+            return py::cast(
+                summarize_path_prediction(*r.path_prediction, *r.metrics, r.phase_per_path, f));
+          },
+          py::arg("freq_ghz") = py::none(),
+          "PathPredictionSummary at freq_ghz (None: the observing frequency), or None when "
+          "nothing was predicted.")
       .def_readonly("result_groups", &NightProcessingResult::result_groups,
                     "Result groups computed now, for Night.with_results / writing.")
       .def_readonly("notes", &NightProcessingResult::notes)
@@ -451,14 +523,16 @@ read-only views owned by this object.
         py::arg("thresholds") = py::none(), py::arg("advice_layer_height_m") = 1000.0,
         py::arg("advice_separation_deg") = 2.0, py::arg("advice_target_rms_deg") = 30.0,
         py::arg("last_stage") = "turbulence", py::arg("reuse_stored_results") = true,
-        py::arg("threads") = 0, R"doc(
+        py::arg("threads") = 0, py::arg("path_prediction") = "frozen_flow", R"doc(
 Runs the library's night pipeline (the same as skyphase process): retrieval, calibration,
 correction, diagnosis and turbulence, up to last_stage, reusing stages stored in the night
 when they match. site: a SiteConfig overriding the night's own (None: the night's site
 record, or defaults from its weather). Retrieval options (window_s, fit_liquid,
 fit_temperature) or calibration options (per_antenna_scale, segment_s, reference_antenna)
 left at their defaults mean "the stored one, else the defaults". obs_freq_ghz: None = the
-night's scans. thresholds: a DiagnosisThresholds (see load_diagnosis_thresholds). Returns a
+night's scans. thresholds: a DiagnosisThresholds (see load_diagnosis_thresholds).
+path_prediction: how antennas whose radiometer gave no samples are corrected: "frozen_flow"
+(falls back to neighbours without a measured wind), "neighbours" or "off". Returns a
 NightProcessingResult. Raises WvrValueError for bad options or a night the stages cannot use.
 The GIL is released while it runs.
 )doc");

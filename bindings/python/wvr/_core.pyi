@@ -1195,6 +1195,66 @@ class PhaseCorrections:
     def phase_per_path(self) -> float: ...
     @property
     def time_s(self) -> FloatArray: ...
+    @property
+    def path_predicted(self) -> UInt8Array: ...  # [antenna, time] 0 measured, 1 neighbours, 2 frozen flow
+    @property
+    def predicted_expected_residual_mm(self) -> FloatArray: ...  # mm, [antenna]; NaN: none
+
+class PredictedPaths:
+    @property
+    def method(self) -> str: ...  # "neighbours" | "frozen_flow"
+    @property
+    def paths(self) -> AntennaPaths: ...
+    @property
+    def sample_method(self) -> UInt8Array: ...  # [antenna, time] 0 measured, 1 neighbours, 2 frozen flow
+    @property
+    def predicted_samples(self) -> List[int]: ...
+    @property
+    def frozen_flow_samples(self) -> List[int]: ...
+    @property
+    def expected_residual_mm(self) -> FloatArray: ...  # mm, [antenna]; NaN: none predicted
+    @property
+    def mean_donors(self) -> FloatArray: ...
+    @property
+    def structure_thickness_m(self) -> float: ...  # m; 0: a power law was used
+    @property
+    def wind_speed_m_s(self) -> float: ...
+    @property
+    def wind_direction_to_deg(self) -> float: ...
+    @property
+    def message(self) -> str: ...
+    def any(self) -> bool: ...
+    def brief_report(self, night: Night) -> str: ...
+
+class PredictedAntennaResidual:
+    @property
+    def antenna(self) -> int: ...
+    @property
+    def predicted_samples(self) -> int: ...
+    @property
+    def frozen_flow_samples(self) -> int: ...
+    @property
+    def expected_residual_mm(self) -> float: ...  # mm
+    @property
+    def expected_residual_deg(self) -> float: ...  # deg at the summary's frequency
+    @property
+    def expected_phase_rms_after_deg(self) -> float: ...  # deg
+    @property
+    def phase_rms_after_deg(self) -> float: ...  # deg, NaN without calibrator samples
+
+class PathPredictionSummary:
+    @property
+    def method(self) -> str: ...
+    @property
+    def message(self) -> str: ...
+    @property
+    def freq_ghz(self) -> float: ...
+    @property
+    def healthy_phase_rms_after_deg(self) -> float: ...  # deg, median over healthy antennas
+    @property
+    def healthy_antennas(self) -> int: ...
+    @property
+    def antennas(self) -> List[PredictedAntennaResidual]: ...
 
 class WindowDiagnosis:
     @property
@@ -1330,6 +1390,11 @@ class NightProcessingResult:
     def obs_freq_source(self) -> Optional[str]: ...
     @property
     def paths(self) -> AntennaPaths: ...
+    @property
+    def path_prediction(self) -> Optional[PredictedPaths]: ...
+    def path_prediction_summary(
+        self, freq_ghz: Optional[float] = None  # GHz; None: the observing frequency
+    ) -> Optional[PathPredictionSummary]: ...
     def phase_per_path(self, freq_ghz: float) -> float: ...  # dimensionless
     @property
     def result_groups(self) -> List[ResultGroup]: ...
@@ -1383,6 +1448,7 @@ def process_night(
     last_stage: str = "turbulence",  # retrieval | calibration | correction | diagnosis | turbulence
     reuse_stored_results: bool = True,
     threads: int = 0,  # 0 = all cores
+    path_prediction: str = "frozen_flow",  # frozen_flow | neighbours | off
 ) -> NightProcessingResult: ...  # releases the GIL
 
 def load_diagnosis_thresholds(path: PathLike) -> DiagnosisThresholds: ...

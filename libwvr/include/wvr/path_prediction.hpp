@@ -45,6 +45,7 @@
 
 #include "wvr/calibration.hpp"
 #include "wvr/correction.hpp"
+#include "wvr/dispersion.hpp"
 #include "wvr/night.hpp"
 #include "wvr/night_retrieval.hpp"
 #include "wvr/structure_function.hpp"
@@ -108,6 +109,36 @@ std::optional<PredictedPaths> predict_night_missing_paths(const Night& night,
                                                           const NightRetrieval& retrieval,
                                                           const AntennaPaths& paths,
                                                           const PathPredictionOptions& options);
+
+// A predicted antenna beside the healthy ones, for the outputs.
+struct PredictedAntennaResidual {
+  std::size_t antenna = 0;
+  std::size_t predicted_samples = 0, frozen_flow_samples = 0;
+  double expected_residual_mm = 0.0;   // PredictedPaths::expected_residual_mm
+  double expected_residual_deg = 0.0;  // the same as phase at freq_ghz
+  // What the antenna's corrected calibrator phase rms should then be: the healthy antennas'
+  // median and the expected residual in quadrature (an upper estimate: calibration's per-scan
+  // offsets take up the slow part of the prediction error).
+  double expected_phase_rms_after_deg = 0.0;
+  double phase_rms_after_deg = 0.0;  // measured (CorrectionMetrics), NaN without samples
+};
+struct PathPredictionSummary {
+  PathPredictionMethod method = PathPredictionMethod::kFrozenFlow;
+  std::string message;
+  double freq_ghz = 0.0;
+  // Median corrected calibrator phase rms of the antennas without predicted samples (NaN when
+  // none has calibrator samples), and how many there are.
+  double healthy_phase_rms_after_deg = 0.0;
+  std::size_t healthy_antennas = 0;
+  std::vector<PredictedAntennaResidual> antennas;  // those with predicted samples
+};
+
+// The summary at freq_ghz (e.g. the observing or calibrator frequency). Throws InvalidInput when
+// the metrics do not match the prediction's antennas.
+PathPredictionSummary summarize_path_prediction(const PredictedPaths& predicted,
+                                                const CorrectionMetrics& metrics,
+                                                const PhasePerPath& phase_per_path,
+                                                double freq_ghz);
 
 // Writes the predicted samples into phase corrections made by compute_phase_corrections from
 // the same night: path, phase (with the antenna's scale), flags cleared, path_predicted and

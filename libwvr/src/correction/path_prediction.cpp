@@ -6,6 +6,7 @@
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <numbers>
 #include <sstream>
 #include <unordered_map>
 
@@ -308,6 +309,51 @@ std::optional<PredictedPaths> predict_night_missing_paths(const Night& night,
   for (const std::string& note : {structure_note, wind_note})
     if (!note.empty()) out.message = note + (out.message.empty() ? "" : "; " + out.message);
   return out;
+}
+
+PathPredictionSummary summarize_path_prediction(const PredictedPaths& predicted,
+                                                const CorrectionMetrics& metrics,
+                                                const PhasePerPath& phase_per_path,
+                                                double freq_ghz) {
+  const std::size_t na = predicted.predicted_samples.size();
+  if (metrics.antennas.size() != na)
+    throw InvalidInput("correction metrics hold " + std::to_string(metrics.antennas.size()) +
+                       " antennas; the path prediction " + std::to_string(na));
+  require_in_range("freq_ghz", freq_ghz, 1.0, 2000.0, "GHz");
+  PathPredictionSummary s;
+  s.method = predicted.method;
+  s.message = predicted.message;
+  s.freq_ghz = freq_ghz;
+  std::vector<double> healthy;
+  for (std::size_t a = 0; a < na; ++a) {
+    if (predicted.predicted_samples[a] > 0) continue;
+    ++s.healthy_antennas;
+    if (metrics.antennas[a].samples > 0) healthy.push_back(metrics.antennas[a].rms_after_deg);
+  }
+  if (healthy.empty()) {
+    s.healthy_phase_rms_after_deg = kNaN;
+  } else {
+    std::sort(healthy.begin(), healthy.end());
+    const std::size_t h = healthy.size();
+    s.healthy_phase_rms_after_deg =
+        h % 2 == 1 ? healthy[h / 2] : 0.5 * (healthy[h / 2 - 1] + healthy[h / 2]);
+  }
+  const double deg_per_mm = phase_per_path.phase_rad(1e-3, freq_ghz) * 180.0 / std::numbers::pi;
+  for (std::size_t a = 0; a < na; ++a) {
+    if (predicted.predicted_samples[a] == 0) continue;
+    PredictedAntennaResidual r;
+    r.antenna = a;
+    r.predicted_samples = predicted.predicted_samples[a];
+    r.frozen_flow_samples = predicted.frozen_flow_samples[a];
+    r.expected_residual_mm = predicted.expected_residual_mm[a];
+    r.expected_residual_deg = deg_per_mm * r.expected_residual_mm;
+    r.expected_phase_rms_after_deg =
+        std::hypot(s.healthy_phase_rms_after_deg, r.expected_residual_deg);
+    r.phase_rms_after_deg =
+        metrics.antennas[a].samples > 0 ? metrics.antennas[a].rms_after_deg : kNaN;
+    s.antennas.push_back(r);
+  }
+  return s;
 }
 
 void apply_predicted_paths(PhaseCorrections& corrections, const PredictedPaths& predicted) {

@@ -107,6 +107,32 @@ def _correction_section(processed):
     }
 
 
+def _path_prediction_section(processed, names):
+    """Antennas corrected with a path predicted from the others, each with its expected
+    residual beside the healthy antennas' corrected calibrator phase rms; None when nothing
+    was predicted."""
+    predicted = processed.path_prediction
+    if predicted is None or processed.metrics is None or processed.obs_freq_ghz is None:
+        return None
+    summary = processed.path_prediction_summary()
+    return {
+        "method": summary.method,
+        "message": summary.message,
+        "freq_ghz": _number(summary.freq_ghz),
+        "healthy_antennas": int(summary.healthy_antennas),
+        "healthy_phase_rms_after_deg": _number(summary.healthy_phase_rms_after_deg),
+        "antennas": [{
+            "antenna": names[a.antenna],
+            "predicted_samples": int(a.predicted_samples),
+            "frozen_flow_samples": int(a.frozen_flow_samples),
+            "expected_residual_um": _number(1e3 * a.expected_residual_mm),
+            "expected_residual_deg": _number(a.expected_residual_deg),
+            "expected_phase_rms_after_deg": _number(a.expected_phase_rms_after_deg),
+            "phase_rms_after_deg": _number(a.phase_rms_after_deg),
+        } for a in summary.antennas],
+    }
+
+
 def _window_rows(diagnosis, names, epoch):
     rows = []
     for k, w in enumerate(diagnosis.windows):
@@ -364,6 +390,7 @@ def report_data(night, processed, *, name, night_file=None):
         "retrieval": _retrieval_section(processed.retrieval),
         "calibration": _calibration_section(processed.calibration),
         "correction": _correction_section(processed),
+        "path_prediction": _path_prediction_section(processed, names),
         "verdict_counts": verdict_counts,
         "episodes": _episodes(windows, epoch),
         "radiometer_faults": faults,

@@ -274,6 +274,33 @@ def _antennas_table(d, tag):
     return "".join(out)
 
 
+_PREDICTION_COLUMNS = (("predicted_samples", "predicted samples"),
+                       ("frozen_flow_samples", "by frozen flow"),
+                       ("expected_residual_um", "expected residual (um)"),
+                       ("expected_residual_deg", "expected residual (deg)"),
+                       ("expected_phase_rms_after_deg", "expected rms after (deg)"),
+                       ("phase_rms_after_deg", "measured rms after (deg)"))
+
+
+def _path_prediction_table(d, tag):
+    """Antennas whose radiometer gave no samples, corrected with a predicted path."""
+    out = [f"<p>Predicted by {tag('path_prediction.method')}; the healthy antennas' corrected "
+           f"calibrator phase rms is {tag('path_prediction.healthy_phase_rms_after_deg')} deg "
+           f"(median of {tag('path_prediction.healthy_antennas')}); phases at "
+           f"{tag('path_prediction.freq_ghz')} GHz. {tag('path_prediction.message')}</p>",
+           "<table><tr><th>antenna</th>"
+           + "".join(f"<th>{html.escape(label)}</th>" for _, label in _PREDICTION_COLUMNS)
+           + "</tr>"]
+    for k in range(len(d["path_prediction"]["antennas"])):
+        p = f"path_prediction.antennas.{k}"
+        out.append(f"<tr><td>{tag(p + '.antenna')}</td>"
+                   + "".join(f'<td class="num">{tag(f"{p}.{key}")}</td>'
+                             for key, _ in _PREDICTION_COLUMNS)
+                   + "</tr>")
+    out.append("</table>")
+    return "".join(out)
+
+
 _WINDOW_NUMBERS = ("phase_rms_before_deg", "phase_rms_after_deg", "floor_deg",
                    "improvement_factor", "correlation", "slope", "radiometer_path_rms_um",
                    "chi2_per_dof")
@@ -348,6 +375,9 @@ def render_page(d, figures):
     out.append("<h2>Correction</h2>")
     if d["correction"] is not None:
         out.append(_key_value_table(tag, d, "correction"))
+    if d["path_prediction"] is not None:
+        out.append("<h3>Antennas corrected with a predicted path</h3>"
+                   + _path_prediction_table(d, tag))
     if d["calibration"] is not None:
         out.append("<h3>Calibration</h3>" + _key_value_table(tag, d, "calibration"))
     out.append("<h3>Retrieval</h3>" + _key_value_table(tag, d, "retrieval"))
