@@ -131,5 +131,33 @@ TEST(DeadRadiometer, EachMethodCorrectsTheDeadAntennaWithinOneAndAHalfTimesItsNe
   EXPECT_LT(error_mm[1], error_mm[0]);
 }
 
+TEST(DeadRadiometer, AStretchWithoutSamplesIsPredictedAndTheRestStaysMeasured) {
+  // The same night, 20 minutes long, with the radiometer out from 400 s to 700 s only.
+  Scenario scenario = load_scenario(test::testdata("scenarios/dead-radiometer.toml"));
+  scenario.duration_s = 1200.0;
+  ASSERT_EQ(scenario.faults.size(), 1u);
+  scenario.faults[0].start_s = 400.0;
+  scenario.faults[0].stop_s = 700.0;
+  const Night night = simulate_night(scenario);
+  NightProcessingOptions options;
+  options.last_stage = NightStage::kCorrection;
+  const NightProcessingResult r = process_night(night, options);
+  ASSERT_TRUE(r.path_prediction.has_value());
+  const std::size_t nt = r.paths.time_s.size();
+  std::size_t outage = 0;
+  for (std::size_t k = 0; k < nt; ++k) {
+    const bool out = night.radiometer.valid[kDead * nt + k] == 0;
+    outage += out ? 1 : 0;
+    // Predicted exactly where the radiometer gave nothing; measured samples are left alone.
+    ASSERT_EQ(r.corrections->path_predicted[kDead * nt + k] != kPathMeasured, out) << k;
+    if (!out)
+      ASSERT_EQ(r.corrections->path_mm[kDead * nt + k], r.paths.path_mm[kDead * nt + k]) << k;
+    ASSERT_EQ(r.corrections->flags[kDead * nt + k], 0) << k;
+  }
+  EXPECT_NEAR(static_cast<double>(outage), 300.0, 2.0);
+  EXPECT_EQ(r.path_prediction->predicted_samples[kDead], outage);
+  EXPECT_GT(r.path_prediction->expected_residual_mm[kDead], 0.0);
+}
+
 }  // namespace
 }  // namespace wvr
