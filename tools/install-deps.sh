@@ -10,6 +10,8 @@ packages=(
   # MeasurementSets (optional component): casacore, its taql tools, python-casacore for the
   # tests' independent writer, and the leap-second table its measures need.
   casacore-dev casacore-tools python3-casacore casacore-data-tai-utc
+  # Benchmarks: GNU time for the peak memory of a program alone (tools/bench/).
+  time
   # Fuzzing (tools/fuzz.sh): clang and its libFuzzer runtime.
   clang-14 libfuzzer-14-dev
 )

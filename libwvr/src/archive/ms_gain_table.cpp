@@ -173,38 +173,12 @@ GainTableResult write_gain_table(const std::filesystem::path& ms,
     info.readmeAddLine("Antenna-based phase gains from a radiometer phase correction (libwvr)");
     table.flushTableInfo();
 
-    // Scalar columns, written whole (a few numbers per solution).
-    std::vector<double> time, interval;
-    std::vector<int> field, window, antenna1, scan, observation;
-    time.reserve(result.solutions);
-    const double interval_s = median_spacing_s(plan.time_mjd_s);
-    for (std::size_t k = 0; k < nt; ++k) {
-      const ScanSpan& span = span_at(spans, plan.time_mjd_s[k]);
-      for (int w : result.spectral_windows)
-        for (std::size_t a = 0; a < antennas; ++a) {
-          time.push_back(plan.time_mjd_s[k]);
-          interval.push_back(interval_s);
-          field.push_back(span.field);
-          window.push_back(w);
-          antenna1.push_back(static_cast<int>(a));
-          scan.push_back(span.scan);
-          observation.push_back(span.observation);
-        }
-    }
-    casacore::ScalarColumn<double>(table, "TIME").putColumn(casacore::Vector<double>(time));
-    casacore::ScalarColumn<double>(table, "INTERVAL").putColumn(casacore::Vector<double>(interval));
-    casacore::ScalarColumn<int>(table, "FIELD_ID").putColumn(casacore::Vector<int>(field));
-    casacore::ScalarColumn<int>(table, "SPECTRAL_WINDOW_ID")
-        .putColumn(casacore::Vector<int>(window));
-    casacore::ScalarColumn<int>(table, "ANTENNA1").putColumn(casacore::Vector<int>(antenna1));
-    // No reference antenna: each antenna's gain is its own path correction.
-    casacore::ScalarColumn<int>(table, "ANTENNA2")
-        .putColumn(casacore::Vector<int>(result.solutions, -1));
-    casacore::ScalarColumn<int>(table, "SCAN_NUMBER").putColumn(casacore::Vector<int>(scan));
-    casacore::ScalarColumn<int>(table, "OBSERVATION_ID")
-        .putColumn(casacore::Vector<int>(observation));
-
-    // Array columns, one block of `antennas` rows (one shape) per time and window.
+    // One block of `antennas` rows (one array shape) per time and window, so that memory
+    // stays one block whatever the number of solutions.
+    casacore::ScalarColumn<double> time(table, "TIME"), interval(table, "INTERVAL");
+    casacore::ScalarColumn<int> field(table, "FIELD_ID"), window(table, "SPECTRAL_WINDOW_ID"),
+        antenna1(table, "ANTENNA1"), antenna2(table, "ANTENNA2"), scan(table, "SCAN_NUMBER"),
+        observation(table, "OBSERVATION_ID");
     casacore::ArrayColumn<casacore::Complex> cparam(table, "CPARAM");
     casacore::ArrayColumn<float> paramerr(table, "PARAMERR"), snr(table, "SNR");
     casacore::ArrayColumn<bool> flag(table, "FLAG");
@@ -215,12 +189,28 @@ GainTableResult write_gain_table(const std::filesystem::path& ms,
           plan.phase_scale(metadata.spectral_windows[static_cast<std::size_t>(w)].mean_freq_ghz));
       polarisations.push_back(polarisations_of(metadata, w));
     }
+    const double interval_s = median_spacing_s(plan.time_mjd_s);
+    const auto block = static_cast<ssize_t>(antennas);
+    casacore::Vector<int> antenna_index(antennas);
+    for (std::size_t a = 0; a < antennas; ++a) antenna_index[a] = static_cast<int>(a);
     casacore::rownr_t row = 0;
     for (std::size_t k = 0; k < nt; ++k) {
+      const ScanSpan& span = span_at(spans, plan.time_mjd_s[k]);
       for (std::size_t iw = 0; iw < nw; ++iw) {
+        const casacore::Slicer rows(casacore::IPosition(1, static_cast<ssize_t>(row)),
+                                    casacore::IPosition(1, block));
+        time.putColumnRange(rows, casacore::Vector<double>(antennas, plan.time_mjd_s[k]));
+        interval.putColumnRange(rows, casacore::Vector<double>(antennas, interval_s));
+        field.putColumnRange(rows, casacore::Vector<int>(antennas, span.field));
+        window.putColumnRange(rows, casacore::Vector<int>(antennas, result.spectral_windows[iw]));
+        antenna1.putColumnRange(rows, antenna_index);
+        // No reference antenna: each antenna's gain is its own path correction.
+        antenna2.putColumnRange(rows, casacore::Vector<int>(antennas, -1));
+        scan.putColumnRange(rows, casacore::Vector<int>(antennas, span.scan));
+        observation.putColumnRange(rows, casacore::Vector<int>(antennas, span.observation));
+
         const std::size_t np = polarisations[iw];
-        const casacore::IPosition shape(3, static_cast<ssize_t>(np), 1,
-                                        static_cast<ssize_t>(antennas));
+        const casacore::IPosition shape(3, static_cast<ssize_t>(np), 1, block);
         casacore::Array<casacore::Complex> gains(shape);
         casacore::Array<bool> flags(shape);
         for (std::size_t a = 0; a < antennas; ++a) {
@@ -237,8 +227,6 @@ GainTableResult write_gain_table(const std::filesystem::path& ms,
             flags(at) = !usable;
           }
         }
-        const casacore::Slicer rows(casacore::IPosition(1, static_cast<ssize_t>(row)),
-                                    casacore::IPosition(1, static_cast<ssize_t>(antennas)));
         cparam.putColumnRange(rows, gains);
         flag.putColumnRange(rows, flags);
         paramerr.putColumnRange(rows, casacore::Array<float>(shape, -1.0f));
