@@ -75,7 +75,8 @@ void export_radiometer_cross_calibration(py::module_& m) {
         py::arg("apply") = false, py::arg("include_drift") = false, R"doc(
 Calibrates the night's radiometers against each other from block medians (block_s seconds):
 per unit and channel an offset (K) and a gain RELATIVE TO THE ARRAY (mean offset 0, mean gain 1
-over the units that do not drift), with 1-sigma uncertainties and a linear drift. Returns a dict:
+over the units that do not drift), with 1-sigma uncertainties (a block jackknife over the
+night: the block residuals are correlated in time) and a linear drift. Returns a dict:
 offset_k, offset_sigma_k, gain, gain_sigma, offset_drift_k_per_h, gain_drift_per_h,
 drift_chi2, drift_change_k [antenna, channel]; disagrees, drifting, verdicts [antenna];
 flagged_units (names), block_mid_s, report, result_group (for add_result_group) and, with

@@ -271,6 +271,59 @@ ChannelSolve solve_channel(const std::vector<double>& y,
   return s;
 }
 
+// Replaces each solved unit's offset and gain sigmas by a delete-a-group block jackknife over
+// time (see the header for the method's sources): the night's blocks are cut into `groups`
+// contiguous groups, the whole solve is repeated without each group, and the variance is (G - 1) /
+// G times the sum of squared deviations of the G replicates from their mean. Contiguous groups much
+// longer than the residuals' correlation time keep that correlation inside the replicates, which is
+// what the straight-line fit's covariance (independent blocks) misses. The larger of the two sigmas
+// is kept: with G - 1 degrees of freedom the jackknife can come out below the independent-block
+// value by chance, and positively correlated residuals never make the true spread smaller than
+// that.
+template <class Solve>
+void block_jackknife_sigmas(const std::vector<std::vector<double>>& measured,
+                            std::size_t blocks,
+                            int groups,
+                            const Solve& solve,
+                            CrossCalibration& x) {
+  const std::size_t na = x.antennas, nc = x.channels;
+  const std::size_t g = std::min(static_cast<std::size_t>(groups), blocks);
+  std::vector<std::vector<double>> offsets(na * nc), gains(na * nc);
+  for (std::size_t j = 0; j < g; ++j) {
+    std::vector<std::vector<double>> without = measured;
+    const std::size_t first = j * blocks / g, last = (j + 1) * blocks / g;
+    for (std::vector<double>& channel : without)
+      for (std::size_t a = 0; a < na; ++a)
+        std::fill(channel.begin() + static_cast<std::ptrdiff_t>(a * blocks + first),
+                  channel.begin() + static_cast<std::ptrdiff_t>(a * blocks + last), kNaN);
+    const CrossCalibration replicate = solve(without);
+    for (std::size_t a = 0; a < na; ++a) {
+      for (std::size_t c = 0; c < nc; ++c) {
+        const ChannelCalibration& cal = replicate.units[a].channels[c];
+        if (!cal.solved) continue;
+        offsets[a * nc + c].push_back(cal.offset_k);
+        gains[a * nc + c].push_back(cal.gain);
+      }
+    }
+  }
+  auto jackknife_sigma = [](const std::vector<double>& values) {
+    const auto n = static_cast<double>(values.size());
+    double mean = 0.0, sum2 = 0.0;
+    for (double v : values) mean += v / n;
+    for (double v : values) sum2 += (v - mean) * (v - mean);
+    return std::sqrt((n - 1.0) / n * sum2);
+  };
+  for (std::size_t a = 0; a < na; ++a) {
+    for (std::size_t c = 0; c < nc; ++c) {
+      ChannelCalibration& cal = x.units[a].channels[c];
+      // Three replicates at least: fewer say nothing about the spread.
+      if (!cal.solved || offsets[a * nc + c].size() < 3) continue;
+      cal.offset_sigma_k = std::max(cal.offset_sigma_k, jackknife_sigma(offsets[a * nc + c]));
+      cal.gain_sigma = std::max(cal.gain_sigma, jackknife_sigma(gains[a * nc + c]));
+    }
+  }
+}
+
 bool channel_drifts(const ChannelCalibration& cal, const CrossCalibrationOptions& options) {
   return cal.solved && cal.drift_chi2 > options.drift_chi2_threshold &&
          std::abs(cal.drift_change_k) > options.min_drift_k;
@@ -292,6 +345,9 @@ void CrossCalibrationOptions::validate() const {
   require_in_range("gain_limit", gain_limit, 0.0, 1.0);
   require_in_range("drift_chi2_threshold", drift_chi2_threshold, 0.0, 1e12);
   require_in_range("min_drift_k", min_drift_k, 0.0, 1e3, "K");
+  if (jackknife_groups < 3 || jackknife_groups > 1000)
+    throw InvalidInput("jackknife_groups = " + std::to_string(jackknife_groups) +
+                       " is outside [3, 1000]");
   if (column_passes < 1 || column_passes > 100)
     throw InvalidInput("column_passes = " + std::to_string(column_passes) + " is outside [1, 100]");
 }
@@ -349,32 +405,34 @@ CrossCalibration cross_calibrate(const Night& night, const CrossCalibrationOptio
     x.units[a].channels.resize(nc);
   }
   const std::size_t nb = blocks.count;
-  std::vector<std::vector<double>> measured(nc), cleaned(nc);
-  for (std::size_t c = 0; c < nc; ++c) {
+  std::vector<std::vector<double>> measured(nc);
+  for (std::size_t c = 0; c < nc; ++c)
     measured[c] = block_medians(night, blocks, c, options.min_valid_fraction);
-    cleaned[c] = measured[c];
-  }
-  // Solves every channel with `passes` rounds of removing the common-column differences.
-  auto solve_all = [&](const std::vector<std::uint8_t>& with_drift) {
-    for (std::size_t c = 0; c < nc; ++c) cleaned[c] = measured[c];
-    x.column_pattern.assign(nc, 0.0);
+  // Solves every channel of the block values `values` ([channel][antenna, block]) into `out` with
+  // `passes` rounds of removing the common-column differences.
+  auto solve_all = [&](const std::vector<std::vector<double>>& values,
+                       const std::vector<std::uint8_t>& with_drift, CrossCalibration& out) {
+    std::vector<std::vector<double>> cleaned(nc);
+    for (std::size_t c = 0; c < nc; ++c) cleaned[c] = values[c];
+    out.column_pattern.assign(nc, 0.0);
     const int passes = options.remove_column_differences ? options.column_passes : 1;
     std::vector<ChannelCalibration> column(na);
     for (int pass = 0; pass < passes; ++pass) {
-      x.message.clear();
+      out.message.clear();
       for (std::size_t c = 0; c < nc; ++c) {
         std::fill(column.begin(), column.end(), ChannelCalibration{});
-        const ChannelSolve s =
-            solve_channel(cleaned[c], na, blocks, x.reference_time_s, with_drift, options, column);
-        for (std::size_t a = 0; a < na; ++a) x.units[a].channels[c] = column[a];
-        for (std::size_t b = 0; b < nb; ++b) x.sky_k[b * nc + c] = s.sky[b];
-        x.robust_scale_k[c] = s.robust_scale;
-        x.iterations[c] = s.iterations;
+        const ChannelSolve s = solve_channel(cleaned[c], na, blocks, out.reference_time_s,
+                                             with_drift, options, column);
+        for (std::size_t a = 0; a < na; ++a) out.units[a].channels[c] = column[a];
+        for (std::size_t b = 0; b < nb; ++b) out.sky_k[b * nc + c] = s.sky[b];
+        out.robust_scale_k[c] = s.robust_scale;
+        out.iterations[c] = s.iterations;
         if (!s.message.empty())
-          x.message += (x.message.empty() ? "" : "; ") + channel_label(x, c) + ": " + s.message;
+          out.message +=
+              (out.message.empty() ? "" : "; ") + channel_label(out, c) + ": " + s.message;
       }
       if (pass + 1 == passes) break;
-      // Residuals of the measured block values; their common direction across channels is
+      // Residuals of the block values; their common direction across channels is
       // the signature of a vapour column that differs between antennas within a block.
       std::vector<double> residual(na * nb * nc, kNaN);
       Eigen::MatrixXd scatter =
@@ -382,14 +440,14 @@ CrossCalibration cross_calibrate(const Night& night, const CrossCalibrationOptio
       for (std::size_t a = 0; a < na; ++a) {
         for (std::size_t b = 0; b < nb; ++b) {
           const double tau_h =
-              with_drift[a] ? (blocks.mid_s[b] - x.reference_time_s) / 3600.0 : 0.0;
+              with_drift[a] ? (blocks.mid_s[b] - out.reference_time_s) / 3600.0 : 0.0;
           Eigen::VectorXd r(static_cast<Eigen::Index>(nc));
           bool complete = true;
           for (std::size_t c = 0; c < nc; ++c) {
-            const ChannelCalibration& cal = x.units[a].channels[c];
+            const ChannelCalibration& cal = out.units[a].channels[c];
             const double offset = cal.offset_k + cal.offset_drift_k_per_h * tau_h;
             const double gain = cal.gain + cal.gain_drift_per_h * tau_h;
-            const double v = measured[c][a * nb + b] - offset - gain * x.sky_k[b * nc + c];
+            const double v = values[c][a * nb + b] - offset - gain * out.sky_k[b * nc + c];
             residual[(a * nb + b) * nc + c] = cal.solved ? v : kNaN;
             complete = complete && std::isfinite(residual[(a * nb + b) * nc + c]);
             r(static_cast<Eigen::Index>(c)) = v;
@@ -401,19 +459,19 @@ CrossCalibration cross_calibrate(const Night& night, const CrossCalibrationOptio
       if (eigen.info() != Eigen::Success || !(eigen.eigenvalues().maxCoeff() > 0.0)) break;
       const Eigen::VectorXd pattern = eigen.eigenvectors().col(static_cast<Eigen::Index>(nc) - 1);
       for (std::size_t c = 0; c < nc; ++c)
-        x.column_pattern[c] = pattern(static_cast<Eigen::Index>(c));
+        out.column_pattern[c] = pattern(static_cast<Eigen::Index>(c));
       for (std::size_t a = 0; a < na; ++a) {
         for (std::size_t b = 0; b < nb; ++b) {
           double num = 0.0, den = 0.0;
           for (std::size_t c = 0; c < nc; ++c) {
             const double r = residual[(a * nb + b) * nc + c];
             if (!std::isfinite(r)) continue;
-            num += x.column_pattern[c] * r;
-            den += x.column_pattern[c] * x.column_pattern[c];
+            num += out.column_pattern[c] * r;
+            den += out.column_pattern[c] * out.column_pattern[c];
           }
           const double amount = den > 0.0 ? num / den : 0.0;
           for (std::size_t c = 0; c < nc; ++c)
-            cleaned[c][a * nb + b] = measured[c][a * nb + b] - x.column_pattern[c] * amount;
+            cleaned[c][a * nb + b] = values[c][a * nb + b] - out.column_pattern[c] * amount;
         }
       }
     }
@@ -422,14 +480,22 @@ CrossCalibration cross_calibrate(const Night& night, const CrossCalibrationOptio
   // solve (otherwise their unmodelled drift bends the array's sky), and the rest is solved
   // again.
   std::vector<std::uint8_t> with_drift(na, 0);
-  solve_all(with_drift);
+  solve_all(measured, with_drift, x);
   bool any_drift = false;
   for (std::size_t a = 0; a < na; ++a) {
     for (const ChannelCalibration& cal : x.units[a].channels)
       with_drift[a] = with_drift[a] || channel_drifts(cal, options);
     any_drift = any_drift || with_drift[a];
   }
-  if (any_drift) solve_all(with_drift);
+  if (any_drift) solve_all(measured, with_drift, x);
+  block_jackknife_sigmas(
+      measured, blocks.count, options.jackknife_groups,
+      [&](const auto& m) {
+        CrossCalibration replicate = x;
+        solve_all(m, with_drift, replicate);
+        return replicate;
+      },
+      x);
   for (UnitCalibration& u : x.units) {
     std::ostringstream verdict;
     for (std::size_t c = 0; c < nc; ++c) {

@@ -224,6 +224,9 @@ TEST(RadiometerCrossCalibration, RejectsBadInput) {
   options = {};
   options.block_s = 5000.0;  // two blocks over two hours
   EXPECT_THROW(cross_calibrate(night, options), InvalidInput);
+  options = {};
+  options.jackknife_groups = 2;
+  EXPECT_THROW(cross_calibrate(night, options), InvalidInput);
   CrossCalibration x = cross_calibrate(night);
   x.channels = 2;
   EXPECT_THROW(apply_cross_calibration(night, x), InvalidInput);
