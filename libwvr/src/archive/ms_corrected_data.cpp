@@ -73,7 +73,12 @@ void copy_table(const std::filesystem::path& ms, const std::filesystem::path& te
   const casacore::Table input = open_table_read_only(ms);
   require_column(input, ms.string(), "DATA");
   if (input.tableType() == casacore::Table::Plain) {
-    std::filesystem::copy(ms, temporary, std::filesystem::copy_options::recursive);
+    namespace fs = std::filesystem;
+    fs::copy(ms, temporary, fs::copy_options::recursive);
+    // An archive's files are often read-only; the copy is ours to write.
+    fs::permissions(temporary, fs::perms::owner_write, fs::perm_options::add);
+    for (const fs::directory_entry& entry : fs::recursive_directory_iterator(temporary))
+      fs::permissions(entry.path(), fs::perms::owner_write, fs::perm_options::add);
   } else {
     input.deepCopy(temporary.string(), casacore::Table::New, true);
   }
