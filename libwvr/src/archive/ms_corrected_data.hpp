@@ -13,9 +13,9 @@ struct CorrectedCopyResult {
   std::size_t rows_flagged = 0;
 };
 
-// Deep-copies `ms` to `temporary` and fills CORRECTED_DATA there: row (i, j) gets
-// DATA * exp(i (phi_j - phi_i) scale(nu_channel)), phases interpolated linearly in time between
-// usable samples; cross-correlation rows without a usable correction for both antennas are
+// Copies `ms` to `temporary` (its files, for a plain table) and fills CORRECTED_DATA there: row (i,
+// j) gets DATA * exp(i (phi_j - phi_i) scale(nu_channel)), phases interpolated linearly in time
+// between usable samples; cross-correlation rows without a usable correction for both antennas are
 // flagged (FLAG and FLAG_ROW). The caller renames `temporary` into place.
 CorrectedCopyResult write_corrected_copy(const std::filesystem::path& ms,
                                          const std::filesystem::path& temporary,
