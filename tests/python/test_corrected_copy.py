@@ -133,3 +133,14 @@ def test_read_only_input_gives_a_writable_copy(work, ms, flagged_night):
     finally:
         for p in [frozen, *frozen.rglob("*")]:
             p.chmod(p.stat().st_mode | stat.S_IWUSR)
+
+
+def test_output_inside_the_input_is_refused(ms, flagged_night):
+    before = tree_digest(ms)
+    night = wvr.read_night(flagged_night)
+    for out in (ms / "corrected.ms", ms / "ANTENNA" / "corrected.ms"):
+        with pytest.raises(wvr.WvrValueError, match="inside the input MS"):
+            wvr.export_measurement_set(night, ms, out)
+        with pytest.raises(wvr.WvrValueError, match="inside the input MS"):
+            wvr.export_gain_table(night, ms, out)
+    assert tree_digest(ms) == before

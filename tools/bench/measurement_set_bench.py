@@ -18,6 +18,7 @@ import json
 import os
 import pathlib
 import shutil
+import statistics
 import subprocess
 import sys
 import time
@@ -50,8 +51,8 @@ def run(command):
 
 def median_of(runs):
     """Median wall time of repeated runs (each listed) and their largest peak memory."""
-    seconds = sorted(r["seconds"] for r in runs)
-    return {"seconds": seconds[len(seconds) // 2], "runs_s": [r["seconds"] for r in runs],
+    return {"seconds": statistics.median(r["seconds"] for r in runs),
+            "runs_s": [r["seconds"] for r in runs],
             "peak_rss_mb": max(r["peak_rss_mb"] for r in runs)}
 
 

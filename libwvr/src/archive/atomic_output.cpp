@@ -2,6 +2,7 @@
 
 #include <unistd.h>
 
+#include <algorithm>
 #include <string>
 
 #include "wvr/error.hpp"
@@ -16,6 +17,15 @@ void check_output_path(const std::filesystem::path& output,
   if (fs::exists(output, ec) && fs::equivalent(output, ms, ec))
     throw InvalidInput("output " + output.string() +
                        " is the input MS; the input is never written");
+  // An output inside the input's directory would be written into the input (and its copy
+  // would hold itself).
+  const fs::path input_dir = fs::weakly_canonical(ms, ec);
+  const fs::path output_path = fs::weakly_canonical(fs::absolute(output), ec);
+  const auto [input_end, output_it] =
+      std::mismatch(input_dir.begin(), input_dir.end(), output_path.begin(), output_path.end());
+  if (!input_dir.empty() && input_end == input_dir.end())
+    throw InvalidInput("output " + output.string() + " is inside the input MS " + ms.string() +
+                       "; the input is never written");
   if (fs::exists(output) && !overwrite)
     throw InvalidInput("output " + output.string() + " exists (overwrite_output not set)");
 }

@@ -74,11 +74,16 @@ void copy_table(const std::filesystem::path& ms, const std::filesystem::path& te
   require_column(input, ms.string(), "DATA");
   if (input.tableType() == casacore::Table::Plain) {
     namespace fs = std::filesystem;
-    fs::copy(ms, temporary, fs::copy_options::recursive);
-    // An archive's files are often read-only; the copy is ours to write.
-    fs::permissions(temporary, fs::perms::owner_write, fs::perm_options::add);
-    for (const fs::directory_entry& entry : fs::recursive_directory_iterator(temporary))
-      fs::permissions(entry.path(), fs::perms::owner_write, fs::perm_options::add);
+    try {
+      fs::copy(ms, temporary, fs::copy_options::recursive);
+      // An archive's files are often read-only; the copy is ours to write.
+      fs::permissions(temporary, fs::perms::owner_write, fs::perm_options::add);
+      for (const fs::directory_entry& entry : fs::recursive_directory_iterator(temporary))
+        fs::permissions(entry.path(), fs::perms::owner_write, fs::perm_options::add);
+    } catch (const fs::filesystem_error& e) {
+      throw InvalidInput(ms.string() + ": cannot copy it to " + temporary.string() + ": " +
+                         e.code().message());
+    }
   } else {
     input.deepCopy(temporary.string(), casacore::Table::New, true);
   }
