@@ -144,3 +144,17 @@ def test_output_inside_the_input_is_refused(ms, flagged_night):
         with pytest.raises(wvr.WvrValueError, match="inside the input MS"):
             wvr.export_gain_table(night, ms, out)
     assert tree_digest(ms) == before
+
+
+def test_row_without_data_is_an_error_and_writes_nothing(work, ms, flagged_night):
+    holed = work / "holed.ms"
+    shutil.copytree(ms, holed)
+    with ct.table(str(holed), readonly=False, ack=False) as t:
+        row = t.nrows()
+        t.addrows(1)  # every scalar at its default; DATA and FLAG left undefined
+        t.putcell("ANTENNA2", row, 1)
+    out = work / "holed-corrected.ms"
+    with pytest.raises(wvr.WvrValueError, match=f"row {row} has no DATA array"):
+        wvr.export_measurement_set(wvr.read_night(flagged_night), holed, out)
+    assert not out.exists()
+    assert not [p for p in work.iterdir() if p.name.startswith(".tmp-holed-corrected")]

@@ -151,6 +151,8 @@ CorrectedCopyResult write_corrected_copy(const std::filesystem::path& ms,
     shapes.resize(n);
     runs.clear();
     for (casacore::rownr_t i = 0; i < n; ++i) {
+      if (!data.isDefined(start + i))
+        throw InvalidInput(label + ": row " + std::to_string(start + i) + " has no DATA array");
       shapes[i] = data.shape(start + i);
       if (runs.empty() || shapes[i] != shapes[i - 1]) runs.push_back({i, 0});
       ++runs.back().rows;
