@@ -42,6 +42,15 @@ INTENDED_VERDICT_CHANGES = {
 }
 
 
+# Numbers downstream of the scaling solve may move since the expected values were recorded:
+# the solve stops at a relative cost change of 1e-7 instead of 1e-10 (12 instead of 21
+# iterations on a 64-antenna night). Here the scale moves by 1.2e-6 relative, about 1e-4 of its
+# formal sigma (0.0103 in the recorded run), and what the scale feeds (rms after correction,
+# improvement, coherence) by as little; the retrieval stays at 1e-9.
+SOLVER_TOLERANCE_STAGES = ("calibrate", "correct", "diagnose")
+SOLVER_TOLERANCE_REL = 1e-5
+
+
 def run(*args):
     result = subprocess.run([SKYPHASE, *args], capture_output=True, text=True, timeout=600)
     assert result.returncode == 0, result.stderr
@@ -57,7 +66,8 @@ def close(actual, expected, path):
         for i, (a, e) in enumerate(zip(actual, expected)):
             close(a, e, f"{path}[{i}]")
     elif isinstance(expected, float):
-        assert math.isclose(actual, expected, rel_tol=1e-9, abs_tol=1e-12), f"{path}: {actual} != {expected}"
+        rel_tol = SOLVER_TOLERANCE_REL if path.startswith(SOLVER_TOLERANCE_STAGES) else 1e-9
+        assert math.isclose(actual, expected, rel_tol=rel_tol, abs_tol=1e-12), f"{path}: {actual} != {expected}"
     else:
         assert actual == expected, f"{path}: {actual} != {expected}"
 

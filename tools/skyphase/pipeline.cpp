@@ -1,6 +1,8 @@
 #include "pipeline.hpp"
 
+#include <chrono>
 #include <cmath>
+#include <iomanip>
 #include <iostream>
 
 #include "wvr/absorption.hpp"
@@ -24,10 +26,12 @@ void add_common(CLI::App& cmd, CommonOptions& o) {
                  "water vapour) (default: the stored retrieval's, or p676; a stored retrieval "
                  "made with another model is recomputed)")
       ->check(CLI::IsMember(wvr::absorption_model_keys()));
-  cmd.add_option("--threads", o.threads, "Worker threads of the retrieval (0 = all cores)")
+  cmd.add_option("--threads", o.threads, "Worker threads of every stage (0 = all cores)")
       ->capture_default_str()
       ->check(CLI::Range(0, 1024));
   cmd.add_flag("--overwrite", o.overwrite, "Replace an existing output file");
+  cmd.add_flag("--step-times", o.print_step_times,
+               "Print the wall time of reading, each processing step and writing on stderr");
   add_format_option(cmd, o.format);
 }
 
@@ -105,13 +109,27 @@ wvr::NightProcessingOptions processing_options(const CommonOptions& o,
 }
 
 Processed process_and_write(const CommonOptions& o, const wvr::NightProcessingOptions& options) {
+  using Clock = std::chrono::steady_clock;
+  const auto seconds_since = [](Clock::time_point start) {
+    return std::chrono::duration<double>(Clock::now() - start).count();
+  };
   Processed p;
+  auto start = Clock::now();
   p.night = wvr::read_night(o.night_file);
+  const double read_s = seconds_since(start);
   p.result = wvr::process_night(p.night, options);
+  start = Clock::now();
   wvr::NightWriteOptions write;
   write.overwrite_output = o.overwrite;
   write.replace_existing_results = true;
   wvr::add_result_groups(o.night_file, o.output_file, p.result.result_groups, write);
+  const double write_s = seconds_since(start);
+  if (o.print_step_times) {
+    std::cerr << std::fixed << std::setprecision(3) << "step time: read " << read_s << " s\n";
+    for (const auto& [step, wall_s] : p.result.step_wall_s)
+      std::cerr << "step time: " << step << " " << wall_s << " s\n";
+    std::cerr << "step time: write " << write_s << " s\n" << std::defaultfloat;
+  }
   return p;
 }
 

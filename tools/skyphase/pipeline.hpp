@@ -25,6 +25,7 @@ struct CommonOptions {
   bool fit_temperature = false;  // retrieve only
   int threads = 0;
   bool overwrite = false;
+  bool print_step_times = false;  // wall time of each step on stderr
   Format format = Format::kTable;
   std::optional<double> obs_freq_ghz;
   // Fast-switching advice (diagnose, process and report).
@@ -35,8 +36,8 @@ struct CommonOptions {
   std::string thresholds_file;
 };
 
-// Registers night, -o, --site, --window-s, --absorption-model, --threads, --overwrite and
-// --format.
+// Registers night, -o, --site, --window-s, --absorption-model, --threads, --overwrite,
+// --step-times and --format.
 void add_common(CLI::App& cmd, CommonOptions& o);
 // Registers --obs-freq-ghz.
 void add_frequency_option(CLI::App& cmd, CommonOptions& o);
@@ -50,7 +51,8 @@ wvr::NightProcessingOptions processing_options(const CommonOptions& o,
                                                wvr::NightStage last_stage,
                                                bool retrieve = false);
 
-// Reads the night, runs the pipeline, writes the output night with the new result groups.
+// Reads the night, runs the pipeline, writes the output night with the new result groups
+// (with --step-times, prints the wall time of reading, each pipeline step and writing).
 struct Processed {
   wvr::Night night;
   wvr::NightProcessingResult result;

@@ -21,6 +21,7 @@
 
 #include <optional>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "wvr/calibration.hpp"
@@ -47,7 +48,7 @@ struct NightProcessingOptions {
   // Unset: the stored retrieval if any, else the defaults; set: retrieved with these unless a
   // stored retrieval was made with the same options.
   std::optional<NightRetrievalOptions> retrieval;
-  int threads = 0;  // worker threads of retrieval and scaling solve (0 = all cores); not in keys
+  int threads = 0;  // worker threads of every stage (0 = all cores); results do not depend on it
   // Unset: the stored calibration if any, else the defaults; set: solved with these unless a
   // stored calibration was made with the same options.
   std::optional<CalibrationOptions> calibration;
@@ -90,6 +91,9 @@ struct NightProcessingResult {
   std::vector<ResultGroup> result_groups;
   // Things a reader of the output should know (defaults used, stored stages reused, ...).
   std::vector<std::string> notes;
+  // Wall time of each step run, in order ("retrieval", "paths", "calibration", "prediction",
+  // "metrics", "correction", "diagnosis", "turbulence"): where a night's processing time goes.
+  std::vector<std::pair<std::string, double>> step_wall_s;
 };
 
 // Runs the stages up to options.last_stage. Throws InvalidInput for bad options, a night the

@@ -38,6 +38,7 @@ struct TurbulenceOptions {
   double advice_layer_height_m = 1000.0;  // turbulent layer height for the advice (m, >= 0)
   double advice_separation_deg = 2.0;     // calibrator-target separation (deg, [0, 180])
   double advice_target_rms_deg = 30.0;    // residual phase rms the advice aims at (deg, > 0)
+  int threads = 0;  // worker threads of the pair-based estimates (0 = all cores)
 
   void validate() const;  // throws InvalidInput naming the field and value
 };

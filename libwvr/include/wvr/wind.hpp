@@ -25,6 +25,7 @@ struct WindOptions {
   // then at full resolution around the coarse peak: 64 antennas x 8 h at 1 s take 6 s
   // instead of 50 s, with the same wind.
   std::size_t coarse_search_points = 4096;
+  int threads = 0;  // antenna pairs spread over threads (0 = all cores); results do not change
 
   void validate() const;  // throws InvalidInput
 };

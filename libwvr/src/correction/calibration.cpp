@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <complex>
 #include <limits>
 #include <map>
 #include <numbers>
@@ -11,6 +12,7 @@
 #include <unordered_map>
 
 #include "core/parallel_for.hpp"
+#include "correction/phase_residuals.hpp"
 #include "wvr/constants.hpp"
 #include "wvr/error.hpp"
 
@@ -56,66 +58,18 @@ std::string CalibrationResult::brief_report() const {
 
 namespace {
 
+using detail::AntennaPhaseResidual;
+using detail::AntennaRow;
+using detail::PhaseResidual;
+using detail::Row;
+
 constexpr double kTwoPi = 2.0 * std::numbers::pi;
-
-// A phase row fitted as it is: a baseline phase, or an antenna phase against the reference
-// antenna (an integration whose baselines all include the reference).
-struct Row {
-  double phase_rad;
-  double k_rad_per_mm;  // 2 pi f / c * dispersion factor, per mm of path
-  double path_a_mm, path_b_mm;
-  std::uint32_t a, b, scan, segment;
-};
-
-// An antenna phase of an integration with redundant baselines, fitted with the integration's
-// common phase.
-struct AntennaRow {
-  double phase_rad;
-  double k_rad_per_mm;
-  double path_mm;
-  std::uint32_t antenna, scan, segment, integration;
-};
 
 // Per reduced integration: the weight of its antenna rows and, when the reference antenna
 // took part (its phase is then 0), the reference's path for the start-value search.
 struct ReducedIntegration {
   double weight;
   double reference_path_mm;  // NaN when the reference antenna is not in the integration
-};
-
-// Chord residual of one baseline phase: (cos obs - cos model, sin obs - sin model).
-struct PhaseResidual {
-  explicit PhaseResidual(const Row& row) : row_(row) {}
-  template <typename T>
-  bool operator()(const T* segment_scale,
-                  const T* ratio_a,
-                  const T* ratio_b,
-                  const T* offset_a,
-                  const T* offset_b,
-                  T* residual) const {
-    const T model = row_.k_rad_per_mm * segment_scale[0] *
-                        (ratio_b[0] * row_.path_b_mm - ratio_a[0] * row_.path_a_mm) +
-                    offset_b[0] - offset_a[0];
-    residual[0] = std::cos(row_.phase_rad) - cos(model);
-    residual[1] = std::sin(row_.phase_rad) - sin(model);
-    return true;
-  }
-  Row row_;
-};
-
-// Chord residual of one antenna phase with its integration's common phase.
-struct AntennaPhaseResidual {
-  explicit AntennaPhaseResidual(const AntennaRow& row) : row_(row) {}
-  template <typename T>
-  bool operator()(
-      const T* segment_scale, const T* ratio, const T* offset, const T* common, T* residual) const {
-    const T model =
-        row_.k_rad_per_mm * segment_scale[0] * ratio[0] * row_.path_mm + offset[0] + common[0];
-    residual[0] = std::cos(row_.phase_rad) - cos(model);
-    residual[1] = std::sin(row_.phase_rad) - sin(model);
-    return true;
-  }
-  AntennaRow row_;
 };
 
 struct RatioPrior {
@@ -359,16 +313,23 @@ class StartSearch {
     return total;
   }
 
-  // The grid scale (step 0.01) of least cost, the first of equals; grid points over threads.
+  // The grid scale (step 0.01) of least cost, the first of equals. Blocks of grid points over
+  // threads; within a block each row's phasor is rotated from one grid point to the next by a
+  // complex multiplication instead of a sine and cosine per point.
   double best_scale(double min_scale, double max_scale, int threads) const {
+    constexpr double kStep = 0.01;
     std::vector<double> grid;
-    for (double s = min_scale; s <= max_scale + 1e-12; s += 0.01) grid.push_back(s);
+    for (double s = min_scale; s <= max_scale + 1e-12; s += kStep) grid.push_back(s);
     std::vector<double> costs(grid.size());
-    detail::parallel_blocks(grid.size(), detail::worker_count(threads, grid.size()),
+    const std::size_t blocks = (grid.size() + kGridBlock - 1) / kGridBlock;
+    detail::parallel_blocks(blocks, detail::worker_count(threads, blocks),
                             [&](std::size_t begin, std::size_t end, std::size_t) {
-                              std::vector<std::pair<double, double>> sums;
-                              for (std::size_t g = begin; g < end; ++g)
-                                costs[g] = cost(grid[g], sums);
+                              std::vector<std::complex<double>> sums;
+                              for (std::size_t b = begin; b < end; ++b) {
+                                const std::size_t first = b * kGridBlock;
+                                const std::size_t width = std::min(kGridBlock, grid.size() - first);
+                                block_costs(grid[first], kStep, width, sums, &costs[first]);
+                              }
                             });
     double best = 1.0, best_cost = std::numeric_limits<double>::infinity();
     for (std::size_t g = 0; g < grid.size(); ++g) {
@@ -384,6 +345,49 @@ class StartSearch {
 
  private:
   static constexpr std::uint32_t kNoGroup = std::numeric_limits<std::uint32_t>::max();
+  static constexpr std::size_t kGridBlock = 16;
+
+  // Costs at scales first + j step, j < width (<= kGridBlock); `sums` is scratch.
+  void block_costs(double first,
+                   double step,
+                   std::size_t width,
+                   std::vector<std::complex<double>>& sums,
+                   double* costs) const {
+    sums.assign(keys_.size() * kGridBlock, {0.0, 0.0});
+    double n = 0.0;
+    // A row with phase theta(s) = phase - k s d: its phasor at the first scale, turned by
+    // exp(-i k d step) from each scale to the next.
+    const auto add = [&](std::uint32_t group, double phase_rad, double k_times_d) {
+      double re = std::cos(phase_rad - k_times_d * first);
+      double im = std::sin(phase_rad - k_times_d * first);
+      const double turn_re = std::cos(k_times_d * step), turn_im = -std::sin(k_times_d * step);
+      std::complex<double>* out = &sums[group * kGridBlock];
+      for (std::size_t j = 0; j < width; ++j) {
+        out[j] += std::complex<double>(re, im);
+        // Written out: std::complex's operator*= guards against infinities at every step.
+        const double next_re = re * turn_re - im * turn_im;
+        im = re * turn_im + im * turn_re;
+        re = next_re;
+      }
+      n += 1.0;
+    };
+    for (std::size_t i = 0; i < fit_.rows.size(); ++i) {
+      const Row& r = fit_.rows[i];
+      add(row_group_[i], r.phase_rad, r.k_rad_per_mm * (r.path_b_mm - r.path_a_mm));
+    }
+    for (std::size_t i = 0; i < fit_.antenna_rows.size(); ++i) {
+      if (antenna_group_[i] == kNoGroup) continue;
+      const AntennaRow& r = fit_.antenna_rows[i];
+      add(antenna_group_[i], r.phase_rad,
+          r.k_rad_per_mm * (r.path_mm - fit_.integrations[r.integration].reference_path_mm));
+    }
+    for (std::size_t j = 0; j < width; ++j) {
+      double total = n;
+      for (std::size_t g = 0; g < keys_.size(); ++g) total -= std::abs(sums[g * kGridBlock + j]);
+      costs[j] = total;
+    }
+  }
+
   const FitRows& fit_;
   std::vector<GroupKey> keys_;
   std::vector<std::uint32_t> row_group_, antenna_group_;
@@ -552,8 +556,7 @@ CalibrationResult solve_scaling(const Night& night,
     return ant == ref ? &zero : &offsets[scan * na + ant];
   };
   for (const Row& r : fit.rows) {
-    auto* cost =
-        new ceres::AutoDiffCostFunction<PhaseResidual, 2, 1, 1, 1, 1, 1>(new PhaseResidual(r));
+    auto* cost = new PhaseResidual(r);
     problem.AddResidualBlock(cost, loss, &segment_scale[r.segment], &ratio[r.a], &ratio[r.b],
                              offset_block(r.scan, r.a), offset_block(r.scan, r.b));
   }
@@ -565,8 +568,7 @@ CalibrationResult solve_scaling(const Night& night,
           new ceres::ScaledLoss(new ceres::CauchyLoss(options.loss_scale),
                                 fit.integrations[r.integration].weight, ceres::TAKE_OWNERSHIP);
     }
-    auto* cost = new ceres::AutoDiffCostFunction<AntennaPhaseResidual, 2, 1, 1, 1, 1>(
-        new AntennaPhaseResidual(r));
+    auto* cost = new AntennaPhaseResidual(r);
     problem.AddResidualBlock(cost, weighted, &segment_scale[r.segment], &ratio[r.antenna],
                              offset_block(r.scan, r.antenna), &common[r.integration]);
   }
@@ -588,7 +590,10 @@ CalibrationResult solve_scaling(const Night& night,
   solver_options.max_num_iterations = options.max_iterations;
   solver_options.logging_type = ceres::SILENT;
   solver_options.num_threads = threads;
-  solver_options.function_tolerance = 1e-10;
+  // The robust chord cost converges linearly (each step takes about half the remaining
+  // decrease). A relative cost change of 1e-7 leaves the scale within 1e-4 of its sigma of the
+  // 1e-10 solution (64 antennas x 8 h: 12 iterations instead of 21, scale 2e-7 apart).
+  solver_options.function_tolerance = 1e-7;
   solver_options.parameter_tolerance = 1e-10;
   ceres::Solver::Summary summary;
   ceres::Solve(solver_options, &problem, &summary);

@@ -1,5 +1,6 @@
 #include "wvr/night_processing.hpp"
 
+#include <chrono>
 #include <iomanip>
 #include <map>
 #include <sstream>
@@ -82,6 +83,21 @@ void require_usable_retrieval(const NightRetrieval& retrieval) {
                       " antennas x " + std::to_string(retrieval.samples) + " times) gives a PWV (" +
                       (reasons.empty() ? "no samples" : reasons) + ")");
 }
+
+// Records the wall time since the previous mark under `step`.
+class StepClock {
+ public:
+  explicit StepClock(std::vector<std::pair<std::string, double>>& steps) : steps_(steps) {}
+  void mark(const char* step) {
+    const auto now = std::chrono::steady_clock::now();
+    steps_.emplace_back(step, std::chrono::duration<double>(now - last_).count());
+    last_ = now;
+  }
+
+ private:
+  std::vector<std::pair<std::string, double>>& steps_;
+  std::chrono::steady_clock::time_point last_ = std::chrono::steady_clock::now();
+};
 
 bool at_least(const NightProcessingOptions& o, NightStage stage) {
   return static_cast<int>(o.last_stage) >= static_cast<int>(stage);
@@ -166,6 +182,7 @@ NightProcessingResult process_night(const Night& night, const NightProcessingOpt
   r.site = resolve_night_site(night, options.site, options.site_description);
   if (r.site.source == SiteSource::kNightDefaults) r.notes.push_back("site: " + r.site.description);
   r.phase_per_path = site_phase_per_path(r.site.site.parameters);
+  StepClock clock(r.step_wall_s);
 
   // Retrieval.
   const NightRetrievalOptions retrieval_options = [&] {
@@ -195,8 +212,10 @@ NightProcessingResult process_night(const Night& night, const NightProcessingOpt
       convention.looks_like_other_convention) {
     r.notes.push_back("warning: " + convention.message);
   }
+  clock.mark("retrieval");
   r.coefficients = CoefficientWindows::from_retrieval(r.retrieval);
   r.paths = compute_wvr_paths(night, r.coefficients);
+  clock.mark("paths");
   if (!at_least(options, NightStage::kCalibration)) return r;
 
   // Calibration and the metrics it gives.
@@ -225,11 +244,14 @@ NightProcessingResult process_night(const Night& night, const NightProcessingOpt
     r.calibration->antenna_scale.assign(night.antenna_count(), 1.0);
   if (r.calibration->antenna_scale_sigma.empty())
     r.calibration->antenna_scale_sigma.assign(night.antenna_count(), 0.0);
+  clock.mark("calibration");
   r.path_prediction =
       predict_night_missing_paths(night, r.retrieval, r.paths, options.path_prediction);
   if (r.path_prediction) r.notes.push_back(r.path_prediction->brief_report(night));
+  clock.mark("prediction");
   r.metrics = evaluate_correction(night, r.path_prediction ? r.path_prediction->paths : r.paths,
                                   r.calibration->antenna_scale, r.phase_per_path);
+  clock.mark("metrics");
   if (!at_least(options, NightStage::kCorrection)) return r;
 
   // Phase corrections at the observing frequency.
@@ -239,15 +261,20 @@ NightProcessingResult process_night(const Night& night, const NightProcessingOpt
                                 r.obs_freq->freq_ghz, r.phase_per_path(r.obs_freq->freq_ghz));
   if (r.path_prediction) apply_predicted_paths(*r.corrections, *r.path_prediction);
   r.result_groups.push_back(correction_result_group(*r.corrections, *r.metrics));
+  clock.mark("correction");
   if (!at_least(options, NightStage::kDiagnosis)) return r;
 
   r.diagnosis =
       diagnose_night(night, r.retrieval, r.paths, *r.metrics, r.phase_per_path, options.thresholds);
   r.result_groups.push_back(diagnosis_result_group(*r.diagnosis));
+  clock.mark("diagnosis");
   if (!at_least(options, NightStage::kTurbulence)) return r;
 
+  TurbulenceOptions turbulence_options = options.turbulence;
+  turbulence_options.threads = options.threads;
   r.turbulence = analyse_night_turbulence(night, r.retrieval, r.paths, *r.diagnosis, *r.metrics,
-                                          r.obs_freq->freq_ghz, options.turbulence);
+                                          r.obs_freq->freq_ghz, turbulence_options);
+  clock.mark("turbulence");
   return r;
 }
 

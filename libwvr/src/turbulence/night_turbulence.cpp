@@ -169,6 +169,7 @@ void TurbulenceOptions::validate() const {
   if (advice_target_rms_deg <= 0.0)
     throw InvalidInput(describe_value("advice_target_rms_deg", advice_target_rms_deg) +
                        " is not positive");
+  if (threads < 0) throw InvalidInput("threads = " + std::to_string(threads) + " is negative");
 }
 
 const char* to_string(AdviceWetModel model) {
@@ -241,7 +242,9 @@ NightTurbulence analyse_night_turbulence(const Night& night,
                             "calibrator phases before correction");
   t.after = fitted_spatial(calibrator_structure_function(night, metrics.corrected_phase_rad),
                            "calibrator phases after correction");
-  t.wind = estimate_wind(night, clean);
+  WindOptions wind_options;
+  wind_options.threads = options.threads;
+  t.wind = estimate_wind(night, clean, wind_options);
   t.before_by_lag =
       by_lag(night, night.calibrator_phases.phase_rad, t.wind,
              "calibrator phases before correction, by lag (flow separation = wind x lag)",

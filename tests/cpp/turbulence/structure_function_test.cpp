@@ -421,6 +421,80 @@ TEST(StructureFunctionNight, LongNightsAreSearchedCoarseThenFine) {
   EXPECT_THROW(estimate_wind(night, paths, bad), InvalidInput);
 }
 
+TEST(StructureFunctionNight, WindPairsDoNotDependOnThreadsOrOnHowGapsAreSummed) {
+  AntennaPaths paths;
+  const Night night = wind_night(7.0, -4.0, 61, &paths);
+  // Gaps: every antenna loses a different stretch, one loses every third sample.
+  const std::size_t nt = paths.time_s.size();
+  for (std::size_t a = 0; a < paths.antennas; ++a)
+    for (std::size_t k = 100 + 37 * a; k < 160 + 37 * a && k < nt; ++k)
+      paths.path_mm[a * nt + k] = std::nan("");
+  for (std::size_t k = 0; k < nt; k += 3) paths.path_mm[2 * nt + k] = std::nan("");
+  WindOptions one, two, many;
+  one.threads = 1;
+  two.threads = 2;
+  many.threads = 7;
+  const WindEstimate w1 = estimate_wind(night, paths, one);
+  const WindEstimate w2 = estimate_wind(night, paths, two);
+  const WindEstimate w7 = estimate_wind(night, paths, many);
+  ASSERT_TRUE(w1.ok()) << w1.brief_report();
+  ASSERT_EQ(w1.pairs.size(), w2.pairs.size());
+  ASSERT_EQ(w1.pairs.size(), w7.pairs.size());
+  for (std::size_t i = 0; i < w1.pairs.size(); ++i) {
+    EXPECT_EQ(w1.pairs[i].lag_s, w2.pairs[i].lag_s) << "pair " << i;
+    EXPECT_EQ(w1.pairs[i].lag_s, w7.pairs[i].lag_s) << "pair " << i;
+    EXPECT_EQ(w1.pairs[i].used, w7.pairs[i].used) << "pair " << i;
+  }
+  EXPECT_EQ(w1.speed_m_s, w7.speed_m_s);
+  // Each used pair's lag maximises the plain gap-skipping correlation of the high-passed
+  // series (written out here without masks or vector lanes) over whole-sample lags.
+  const std::size_t half = 60;  // highpass_window_s 120 s at 1 s
+  auto highpassed = [&](std::size_t a) {
+    std::vector<double> out(nt, std::nan(""));
+    for (std::size_t i = 0; i < nt; ++i) {
+      if (!std::isfinite(paths.path_mm[a * nt + i])) continue;
+      double sum = 0.0;
+      std::size_t n = 0;
+      for (std::size_t j = i >= half ? i - half : 0; j < std::min(nt, i + half + 1); ++j) {
+        if (!std::isfinite(paths.path_mm[a * nt + j])) continue;
+        sum += paths.path_mm[a * nt + j];
+        ++n;
+      }
+      out[i] = paths.path_mm[a * nt + i] - sum / static_cast<double>(n);
+    }
+    return out;
+  };
+  auto plain_correlation = [&](const std::vector<double>& x, const std::vector<double>& y,
+                               long lag) {
+    double sxy = 0.0, sxx = 0.0, syy = 0.0;
+    for (long t = std::max(0L, -lag);
+         t < std::min<long>(static_cast<long>(nt), static_cast<long>(nt) - lag); ++t) {
+      const double u = x[static_cast<std::size_t>(t)], v = y[static_cast<std::size_t>(t + lag)];
+      if (std::isnan(u) || std::isnan(v)) continue;
+      sxy += u * v;
+      sxx += u * u;
+      syy += v * v;
+    }
+    return sxy / std::sqrt(sxx * syy);
+  };
+  std::size_t checked = 0;
+  for (const PairLag& p : w1.pairs) {
+    if (!p.used) continue;
+    const std::vector<double> x = highpassed(static_cast<std::size_t>(p.antenna_a));
+    const std::vector<double> y = highpassed(static_cast<std::size_t>(p.antenna_b));
+    const long peak = std::lround(p.lag_s);  // refined by a parabola within half a sample
+    const double at_peak = plain_correlation(x, y, peak);
+    EXPECT_NEAR(at_peak, p.peak_correlation, 1e-9) << p.antenna_a << "-" << p.antenna_b;
+    EXPECT_GE(at_peak, plain_correlation(x, y, peak - 1)) << p.antenna_a << "-" << p.antenna_b;
+    EXPECT_GE(at_peak, plain_correlation(x, y, peak + 1)) << p.antenna_a << "-" << p.antenna_b;
+    ++checked;
+  }
+  EXPECT_GE(checked, 5u);
+  WindOptions bad;
+  bad.threads = -1;
+  EXPECT_THROW(estimate_wind(night, paths, bad), InvalidInput);
+}
+
 // Per lag: the antennas' mean temporal D(tau) of a wind_night over the frozen-flow theory,
 // the spatial D at |v| tau times the airmass squared (the slant path is longer than the
 // zenith one by the airmass).
