@@ -3,6 +3,7 @@
 #include <ceres/ceres.h>
 
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <complex>
 #include <limits>
@@ -114,6 +115,7 @@ struct BaselinePhase {
 class AntennaPhaseReduction {
  public:
   explicit AntennaPhaseReduction(std::size_t antennas) : local_(antennas, -1) {}
+  std::size_t antenna_count() const { return local_.size(); }
 
   // `antennas` receives the integration's antennas (root first), `phase_rad` their phases.
   void reduce(const std::vector<BaselinePhase>& rows,
@@ -141,11 +143,23 @@ class AntennaPhaseReduction {
       ++start_[local(r.b) + 1];
     }
     for (std::size_t c = 0; c < n; ++c) start_[c + 1] += start_[c];
+    // Beside each incidence: the antenna at the row's other end and the row's phasor as seen
+    // from this end (psi_other - phi from a, psi_other + phi from b), so that the sweeps below
+    // read contiguous memory.
     incident_.resize(2 * rows.size());
+    neighbour_.resize(2 * rows.size());
+    neighbour_phasor_.resize(2 * rows.size());
     fill_ = start_;
     for (std::size_t i = 0; i < rows.size(); ++i) {
-      incident_[fill_[local(rows[i].a)]++] = i;
-      incident_[fill_[local(rows[i].b)]++] = i;
+      const std::size_t a = local(rows[i].a), b = local(rows[i].b);
+      const double c = std::cos(rows[i].phase_rad), s = std::sin(rows[i].phase_rad);
+      const std::size_t from_a = fill_[a]++, from_b = fill_[b]++;
+      incident_[from_a] = i;
+      neighbour_[from_a] = b;
+      neighbour_phasor_[from_a] = {c, -s};
+      incident_[from_b] = i;
+      neighbour_[from_b] = a;
+      neighbour_phasor_[from_b] = {c, s};
     }
     // Spanning tree from the root: psi_b = psi_a + phi_ab.
     phase_rad.assign(n, std::nan(""));
@@ -163,27 +177,44 @@ class AntennaPhaseReduction {
         queue_.push_back(other);
       }
     }
-    // Circular-mean sweeps over the connected antennas; the root keeps phase 0.
+    // Circular-mean sweeps over the connected antennas, the root included, then the whole
+    // solution turned so that the root has phase 0. (Held at 0 during the sweeps, the root
+    // would leave the rotation of all other antennas against it to converge by a factor of
+    // about (n - 2) / (n - 1) per sweep; left free, that rotation is the gauge and the other
+    // modes converge within a few sweeps. The stationary points are the same: the cost is
+    // invariant under a common rotation.) Phases are carried as unit phasors (each row's once,
+    // each antenna's as it changes): a sweep costs complex multiplications, not a sine and
+    // cosine per row end.
+    phasor_.assign(n, {1.0, 0.0});
+    for (std::size_t c : queue_) phasor_[c] = {std::cos(phase_rad[c]), std::sin(phase_rad[c])};
     constexpr int kMaxSweeps = 200;
-    constexpr double kTolerance_rad = 1e-12;
+    constexpr double kTolerance_rad = 1e-12;  // as the chord between successive phasors
     for (int sweep = 0; sweep < kMaxSweeps; ++sweep) {
       double largest_change = 0.0;
-      for (std::size_t q = 1; q < queue_.size(); ++q) {
-        const std::size_t c = queue_[q];
+      for (std::size_t c : queue_) {
         double re = 0.0, im = 0.0;
         for (std::size_t k = start_[c]; k < start_[c + 1]; ++k) {
-          const BaselinePhase& r = rows[incident_[k]];
-          const double estimate = local(r.a) == c ? phase_rad[local(r.b)] - r.phase_rad
-                                                  : phase_rad[local(r.a)] + r.phase_rad;
-          re += std::cos(estimate);
-          im += std::sin(estimate);
+          const std::array<double, 2>& z = phasor_[neighbour_[k]];
+          const std::array<double, 2>& u = neighbour_phasor_[k];
+          re += z[0] * u[0] - z[1] * u[1];
+          im += z[1] * u[0] + z[0] * u[1];
         }
-        const double updated = std::atan2(im, re);
-        largest_change =
-            std::max(largest_change, std::abs(std::remainder(updated - phase_rad[c], kTwoPi)));
-        phase_rad[c] = updated;
+        const double length = std::sqrt(re * re + im * im);
+        // No direction at all (atan2(0, 0) = 0): phase 0.
+        const std::array<double, 2> updated = length > 0.0
+                                                  ? std::array<double, 2>{re / length, im / length}
+                                                  : std::array<double, 2>{1.0, 0.0};
+        const double d_re = updated[0] - phasor_[c][0], d_im = updated[1] - phasor_[c][1];
+        largest_change = std::max(largest_change, std::sqrt(d_re * d_re + d_im * d_im));
+        phasor_[c] = updated;
       }
       if (largest_change < kTolerance_rad) break;
+    }
+    const std::array<double, 2> root_phasor = phasor_[0];
+    for (std::size_t q = 1; q < queue_.size(); ++q) {
+      const std::array<double, 2>& z = phasor_[queue_[q]];  // z times conj(root)
+      phase_rad[queue_[q]] = std::atan2(z[1] * root_phasor[0] - z[0] * root_phasor[1],
+                                        z[0] * root_phasor[0] + z[1] * root_phasor[1]);
     }
     for (std::uint32_t ant : antennas) local_[ant] = -1;
   }
@@ -191,6 +222,8 @@ class AntennaPhaseReduction {
  private:
   std::vector<int> local_;  // [antenna] index within the current integration, or -1
   std::vector<std::size_t> start_, fill_, incident_, queue_;
+  std::vector<std::size_t> neighbour_;
+  std::vector<std::array<double, 2>> neighbour_phasor_, phasor_;  // (cos, sin)
 };
 
 // The rows to fit, built from the night's calibrator phases.
@@ -222,10 +255,12 @@ void add_integration(const std::vector<BaselinePhase>& phases,
     fit.baseline_rows_used += phases.size();
     return;
   }
-  // Root: the reference antenna when present, else the antenna of the most baselines.
+  // Root: the reference antenna when present, else the antenna of the most baselines (the
+  // lowest index of equals). Per-antenna tables are vectors: maps cost more than the reduction.
   const bool reference_present = std::any_of(phases.begin(), phases.end(), has_reference);
-  std::map<std::uint32_t, std::size_t> degree;
-  std::map<std::uint32_t, double> path_mm;
+  const std::size_t na = reduction.antenna_count();
+  std::vector<std::size_t> degree(na, 0);
+  std::vector<double> path_mm(na, std::nan(""));
   for (const BaselinePhase& p : phases) {
     ++degree[p.a];
     ++degree[p.b];
@@ -233,30 +268,32 @@ void add_integration(const std::vector<BaselinePhase>& phases,
     path_mm[p.b] = p.path_b_mm;
   }
   std::uint32_t root = reference;
-  if (!reference_present) {
-    root = std::max_element(degree.begin(), degree.end(), [](const auto& x, const auto& y) {
-             return x.second < y.second;
-           })->first;
-  }
+  if (!reference_present)
+    root =
+        static_cast<std::uint32_t>(std::max_element(degree.begin(), degree.end()) - degree.begin());
   std::vector<std::uint32_t> antennas;
   std::vector<double> psi;
   reduction.reduce(phases, root, antennas, psi);
-  std::map<std::uint32_t, double> antenna_phase;
+  std::vector<double> antenna_phase(na, std::nan(""));
+  std::vector<std::uint32_t> phased;  // antennas with a phase, in increasing order
   for (std::size_t c = 0; c < antennas.size(); ++c) {
-    if (!std::isnan(psi[c])) antenna_phase[antennas[c]] = psi[c];
+    if (std::isnan(psi[c])) continue;
+    antenna_phase[antennas[c]] = psi[c];
+    phased.push_back(antennas[c]);
   }
+  std::sort(phased.begin(), phased.end());
   std::size_t used = 0;
-  for (const BaselinePhase& p : phases) used += antenna_phase.count(p.a);
+  for (const BaselinePhase& p : phases) used += std::isnan(antenna_phase[p.a]) ? 0 : 1;
   fit.baseline_rows_used += used;
   fit.baseline_rows_skipped += phases.size() - used;
-  if (antenna_phase.size() < 2) return;
+  if (phased.size() < 2) return;
   const auto integration = static_cast<std::uint32_t>(fit.integrations.size());
   fit.integrations.push_back(
-      {1.0 + 2.0 * static_cast<double>(used) / static_cast<double>(antenna_phase.size()),
-       reference_present ? path_mm.at(reference) : std::nan("")});
-  for (const auto& [antenna, phase] : antenna_phase) {
-    fit.antenna_rows.push_back(
-        {phase, k_rad_per_mm, path_mm.at(antenna), antenna, scan, segment, integration});
+      {1.0 + 2.0 * static_cast<double>(used) / static_cast<double>(phased.size()),
+       reference_present ? path_mm[reference] : std::nan("")});
+  for (std::uint32_t antenna : phased) {
+    fit.antenna_rows.push_back({antenna_phase[antenna], k_rad_per_mm, path_mm[antenna], antenna,
+                                scan, segment, integration});
   }
 }
 

@@ -3,11 +3,10 @@
 
 #include <algorithm>
 #include <cmath>
-#include <map>
 #include <numbers>
 #include <sstream>
 
-#include "wvr/constants.hpp"
+#include "turbulence/calibrator_groups.hpp"
 #include "wvr/error.hpp"
 #include "wvr/structure_function.hpp"
 
@@ -48,39 +47,20 @@ CalibratorTemporalResult calibrator_temporal_structure(const Night& night,
   }
   CalibratorTemporalResult result;
   result.speed_m_s = speed_m_s;
-  std::vector<const Scan*> scans;
-  for (const Scan& s : night.scans)
-    if (s.intent == ScanIntent::kCalibrator) scans.push_back(&s);
+  const std::vector<const Scan*> scans = detail::calibrator_scans(night);
   const int na = static_cast<int>(night.antenna_count());
   if (scans.empty() || na < 2) {
     result.message = scans.empty() ? "no calibrator scans in the night"
                                    : "fewer than two antennas: no baselines";
     return result;
   }
-  // Phase series of each (baseline, scan), in time order.
-  struct Sample {
-    double time_s, phase_rad, metres_per_rad;
-  };
-  std::map<std::pair<std::pair<int, int>, std::size_t>, std::vector<Sample>> groups;
-  std::size_t scan = 0;
-  for (std::size_t k = 0; k < cp.time_s.size(); ++k) {
-    const double t = cp.time_s[k];
-    while (scan < scans.size() && scans[scan]->stop_s < t) ++scan;
-    const int a = cp.antenna_pair[k][0], b = cp.antenna_pair[k][1];
-    if (scan >= scans.size() || t < scans[scan]->start_s || a < 0 || b < 0 || a >= na || b >= na ||
-        a == b || !std::isfinite(phase_rad[k]) || !(cp.freq_ghz[k] > 0.0)) {
-      continue;
-    }
-    // The sign makes phase(b) - phase(a) with a < b; wraps are undone pairwise below.
-    const double metres_per_rad =
-        constants::speed_of_light_m_per_s / (2.0 * std::numbers::pi * cp.freq_ghz[k] * 1e9);
-    groups[{{std::min(a, b), std::max(a, b)}, scan}].push_back(
-        {t, (a < b ? 1.0 : -1.0) * phase_rad[k], metres_per_rad});
-  }
+  // Phase series of each (baseline, scan), in time order; wraps are undone pairwise below.
+  const detail::CalibratorGroups grouped = detail::group_calibrator_rows(night, phase_rad, scans);
   // Cadence: the median step within the groups.
   std::vector<double> steps;
   std::size_t longest = 0;
-  for (const auto& [key, rows] : groups) {
+  for (const detail::CalibratorGroup& group : grouped.groups) {
+    const std::span<const detail::CalibratorRow> rows = group.rows;
     longest = std::max(longest, rows.size());
     for (std::size_t i = 1; i < rows.size(); ++i) {
       const double dt = rows[i].time_s - rows[i - 1].time_s;
@@ -109,9 +89,10 @@ CalibratorTemporalResult calibrator_temporal_structure(const Night& night,
   std::vector<double> sum_sq(lag_samples.size(), 0.0), sum_sq_rad(lag_samples.size(), 0.0);
   std::vector<std::size_t> count(lag_samples.size(), 0);
   std::vector<bool> baseline_used(static_cast<std::size_t>(na) * static_cast<std::size_t>(na));
-  for (const auto& [key, rows] : groups) {
-    const auto& pa = night.array.position_enu_m[static_cast<std::size_t>(key.first.first)];
-    const auto& pb = night.array.position_enu_m[static_cast<std::size_t>(key.first.second)];
+  for (const detail::CalibratorGroup& group : grouped.groups) {
+    const std::span<const detail::CalibratorRow> rows = group.rows;
+    const auto& pa = night.array.position_enu_m[static_cast<std::size_t>(group.a)];
+    const auto& pb = night.array.position_enu_m[static_cast<std::size_t>(group.b)];
     const double baseline_m = std::hypot(pb[0] - pa[0], pb[1] - pa[1]);
     for (std::size_t l = 0; l < lag_samples.size(); ++l) {
       const std::size_t k = lag_samples[l];
@@ -127,7 +108,7 @@ CalibratorTemporalResult calibrator_temporal_structure(const Night& night,
         sum_sq_rad[l] += d_rad * d_rad;
         sum_sq[l] += d * d;
         ++count[l];
-        baseline_used[static_cast<std::size_t>(key.first.first * na + key.first.second)] = true;
+        baseline_used[static_cast<std::size_t>(group.a * na + group.b)] = true;
       }
     }
   }

@@ -8,7 +8,7 @@
 #include <numbers>
 #include <sstream>
 
-#include "wvr/constants.hpp"
+#include "turbulence/calibrator_groups.hpp"
 #include "wvr/error.hpp"
 #include "wvr/structure_function.hpp"
 
@@ -110,9 +110,7 @@ SpatialStructureResult calibrator_structure_function(const Night& night,
                        std::to_string(cp.antenna_pair.size()) + ", freq_ghz " +
                        std::to_string(cp.freq_ghz.size()) + ")");
   }
-  std::vector<const Scan*> scans;
-  for (const Scan& s : night.scans)
-    if (s.intent == ScanIntent::kCalibrator) scans.push_back(&s);
+  const std::vector<const Scan*> scans = detail::calibrator_scans(night);
   if (scans.empty()) {
     SpatialStructureResult r;
     r.message = "no calibrator scans in the night";
@@ -123,48 +121,26 @@ SpatialStructureResult calibrator_structure_function(const Night& night,
     r.message = "fewer than two antennas: no baselines";
     return r;
   }
-  const int na = static_cast<int>(night.antenna_count());
   // Rows of each (baseline, scan), as path deviations are computed per group.
-  struct Sample {
-    double phase_rad, metres_per_rad;
-  };
-  std::map<std::pair<std::pair<int, int>, std::size_t>, std::vector<Sample>> groups;
-  std::size_t skipped = 0;
-  std::size_t scan = 0;
-  for (std::size_t k = 0; k < cp.time_s.size(); ++k) {
-    const double t = cp.time_s[k];
-    while (scan < scans.size() && scans[scan]->stop_s < t) ++scan;
-    const int a = cp.antenna_pair[k][0], b = cp.antenna_pair[k][1];
-    const bool in_scan = scan < scans.size() && t >= scans[scan]->start_s;
-    if (!in_scan || a < 0 || b < 0 || a >= na || b >= na || a == b ||
-        !std::isfinite(phase_rad[k]) || !(cp.freq_ghz[k] > 0.0) || !std::isfinite(t)) {
-      ++skipped;
-      continue;
-    }
-    // One baseline regardless of the row's orientation: phase(b) - phase(a) with a < b.
-    const double sign = a < b ? 1.0 : -1.0;
-    const double metres_per_rad =
-        constants::speed_of_light_m_per_s / (2.0 * std::numbers::pi * cp.freq_ghz[k] * 1e9);
-    groups[{{std::min(a, b), std::max(a, b)}, scan}].push_back(
-        {sign * phase_rad[k], metres_per_rad});
-  }
+  const detail::CalibratorGroups grouped = detail::group_calibrator_rows(night, phase_rad, scans);
+  std::size_t skipped = grouped.skipped;
   std::map<std::pair<int, int>, Accumulator> sums;
-  for (const auto& [key, rows] : groups) {
-    if (rows.size() < options.min_samples) {
-      skipped += rows.size();
+  for (const detail::CalibratorGroup& group : grouped.groups) {
+    if (group.rows.size() < options.min_samples) {
+      skipped += group.rows.size();
       continue;
     }
     std::complex<double> mean(0.0, 0.0);
-    for (const Sample& s : rows) mean += std::polar(1.0, s.phase_rad);
+    for (const detail::CalibratorRow& s : group.rows) mean += std::polar(1.0, s.phase_rad);
     const double centre = std::arg(mean);
-    Accumulator& acc = sums[key.first];
-    for (const Sample& s : rows) {
+    Accumulator& acc = sums[{group.a, group.b}];
+    for (const detail::CalibratorRow& s : group.rows) {
       // Wrap-aware deviation from the scan's circular mean, in (-pi, pi].
       const double dev = std::arg(std::polar(1.0, s.phase_rad - centre));
       const double dev_m = dev * s.metres_per_rad;
       acc.sum_sq_m2 += dev_m * dev_m;
     }
-    acc.samples += rows.size();
+    acc.samples += group.rows.size();
     acc.segments += 1;
   }
   return finish(night, sums, skipped, "calibrator rows");
