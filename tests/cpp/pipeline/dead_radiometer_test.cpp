@@ -150,8 +150,9 @@ TEST(DeadRadiometer, AStretchWithoutSamplesIsPredictedAndTheRestStaysMeasured) {
     outage += out ? 1 : 0;
     // Predicted exactly where the radiometer gave nothing; measured samples are left alone.
     ASSERT_EQ(r.corrections->path_predicted[kDead * nt + k] != kPathMeasured, out) << k;
-    if (!out)
+    if (!out) {
       ASSERT_EQ(r.corrections->path_mm[kDead * nt + k], r.paths.path_mm[kDead * nt + k]) << k;
+    }
     ASSERT_EQ(r.corrections->flags[kDead * nt + k], 0) << k;
   }
   EXPECT_NEAR(static_cast<double>(outage), 300.0, 2.0);
