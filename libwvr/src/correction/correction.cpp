@@ -209,12 +209,12 @@ CorrectionMetrics evaluate_correction(const Night& night,
   CorrectionMetrics m;
   m.corrected_phase_rad.assign(cp.time_s.size(), std::nan(""));
   std::map<double, double> k_cache;
-  // Group rows by (baseline, calibrator scan) for circular means.
-  struct Group {
-    std::vector<std::size_t> rows;
-    double cb = 0, sb = 0, ca = 0, sa = 0;
-  };
-  std::map<std::pair<std::pair<int, int>, std::size_t>, Group> groups;
+  // Rows of each (baseline as stored, calibrator scan) for circular means: a counting sort by
+  // baseline keeps each baseline's rows in time order (a map of groups cost more than the
+  // statistics on nights with every baseline: 11.6 million rows on 64 antennas x 8 h).
+  constexpr std::uint32_t kUnused = UINT32_MAX;
+  std::vector<std::uint32_t> row_pair(cp.time_s.size(), kUnused), row_scan(cp.time_s.size(), 0);
+  std::vector<std::size_t> pair_start(na * na + 1, 0);
   std::size_t scan = 0;
   for (std::size_t r = 0; r < cp.time_s.size(); ++r) {
     const double t = cp.time_s[r];
@@ -240,34 +240,51 @@ CorrectionMetrics evaluate_correction(const Night& night,
                .first;
     const double sa = antenna_scale.empty() ? 1.0 : antenna_scale[static_cast<std::size_t>(a)];
     const double sb = antenna_scale.empty() ? 1.0 : antenna_scale[static_cast<std::size_t>(b)];
-    const double corrected =
+    m.corrected_phase_rad[r] =
         std::remainder(cp.phase_rad[r] - kk->second * (sb * lb - sa * la), kTwoPi);
-    m.corrected_phase_rad[r] = corrected;
-    Group& g = groups[{{a, b}, scan}];
-    g.rows.push_back(r);
-    g.cb += std::cos(cp.phase_rad[r]);
-    g.sb += std::sin(cp.phase_rad[r]);
-    g.ca += std::cos(corrected);
-    g.sa += std::sin(corrected);
+    const std::size_t pair = static_cast<std::size_t>(a) * na + static_cast<std::size_t>(b);
+    row_pair[r] = static_cast<std::uint32_t>(pair);
+    row_scan[r] = static_cast<std::uint32_t>(scan);
+    ++pair_start[pair + 1];
   }
-  // Pool squared deviations from each group's circular mean per baseline and per antenna.
-  std::map<std::pair<int, int>, std::array<double, 3>> baseline_sums;  // n, sum2 before, sum2 after
+  for (std::size_t p = 0; p + 1 < pair_start.size(); ++p) pair_start[p + 1] += pair_start[p];
+  std::vector<std::size_t> grouped(pair_start.back()),
+      fill_at(pair_start.begin(), pair_start.end() - 1);
+  for (std::size_t r = 0; r < cp.time_s.size(); ++r)
+    if (row_pair[r] != kUnused) grouped[fill_at[row_pair[r]]++] = r;
+  // Pool squared deviations from each group's circular mean per baseline and per antenna;
+  // groups in (baseline, scan) order.
+  std::vector<std::array<double, 3>> pair_sums(na * na, {0.0, 0.0, 0.0});  // n, sum2 before, after
   std::vector<std::array<double, 3>> antenna_sums(na, {0.0, 0.0, 0.0});
-  for (const auto& [key, g] : groups) {
-    const double mean_before = std::atan2(g.sb, g.cb), mean_after = std::atan2(g.sa, g.ca);
-    auto& s = baseline_sums[key.first];
-    for (std::size_t r : g.rows) {
-      const double db = std::remainder(cp.phase_rad[r] - mean_before, kTwoPi);
-      const double da = std::remainder(m.corrected_phase_rad[r] - mean_after, kTwoPi);
-      s[0] += 1;
-      s[1] += db * db;
-      s[2] += da * da;
-      for (int ant : {key.first.first, key.first.second}) {
-        auto& as = antenna_sums[static_cast<std::size_t>(ant)];
-        as[0] += 1;
-        as[1] += db * db;
-        as[2] += da * da;
+  for (std::size_t p = 0; p + 1 < pair_start.size(); ++p) {
+    for (std::size_t first = pair_start[p]; first < pair_start[p + 1];) {
+      std::size_t last = first;
+      double cb = 0.0, sb = 0.0, ca = 0.0, sa = 0.0;
+      for (; last < pair_start[p + 1] && row_scan[grouped[last]] == row_scan[grouped[first]];
+           ++last) {
+        const std::size_t r = grouped[last];
+        cb += std::cos(cp.phase_rad[r]);
+        sb += std::sin(cp.phase_rad[r]);
+        ca += std::cos(m.corrected_phase_rad[r]);
+        sa += std::sin(m.corrected_phase_rad[r]);
       }
+      const double mean_before = std::atan2(sb, cb), mean_after = std::atan2(sa, ca);
+      auto& s = pair_sums[p];
+      for (std::size_t i = first; i < last; ++i) {
+        const std::size_t r = grouped[i];
+        const double db = std::remainder(cp.phase_rad[r] - mean_before, kTwoPi);
+        const double da = std::remainder(m.corrected_phase_rad[r] - mean_after, kTwoPi);
+        s[0] += 1;
+        s[1] += db * db;
+        s[2] += da * da;
+        for (std::size_t ant : {p / na, p % na}) {
+          auto& as = antenna_sums[ant];
+          as[0] += 1;
+          as[1] += db * db;
+          as[2] += da * da;
+        }
+      }
+      first = last;
     }
   }
   auto fill = [](auto& out, const std::array<double, 3>& s) {
@@ -280,10 +297,12 @@ CorrectionMetrics evaluate_correction(const Night& night,
     out.improvement_factor = after > 0 ? before / after : std::nan("");
   };
   std::vector<double> rb, ra, cb, ca;
-  for (const auto& [pair, s] : baseline_sums) {
+  for (std::size_t p = 0; p < pair_sums.size(); ++p) {
+    const std::array<double, 3>& s = pair_sums[p];
+    if (s[0] == 0) continue;
     BaselineMetrics b;
-    b.antenna_a = pair.first;
-    b.antenna_b = pair.second;
+    b.antenna_a = static_cast<int>(p / na);
+    b.antenna_b = static_cast<int>(p % na);
     fill(b, s);
     m.baselines.push_back(b);
     rb.push_back(b.rms_before_deg);

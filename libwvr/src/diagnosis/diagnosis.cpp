@@ -221,6 +221,10 @@ NightDiagnosis diagnose_night(const Night& night,
       if (std::isfinite(level)) usual_level[a] = std::clamp(level, 1.0, 0.5 * th.fault_chi2_ratio);
     }
   }
+  // Rows of each baseline within a window; reused from window to window (a map per window
+  // cost more than the statistics on nights with every baseline).
+  std::vector<std::vector<std::size_t>> by_baseline(na * na);
+  std::vector<std::size_t> baselines_seen;
   for (std::size_t s = 0; s < night.scans.size(); ++s) {
     const Scan& scan = night.scans[s];
     WindowDiagnosis w;
@@ -250,21 +254,26 @@ NightDiagnosis diagnose_night(const Night& night,
       // A cloud raises every antenna's chi2: not an antenna fault.
       for (auto& f : w.antenna_faults) f &= static_cast<std::uint8_t>(~kFaultInconsistent);
     }
-    // Phase evidence per baseline.
-    std::map<std::pair<std::size_t, std::size_t>, std::vector<std::size_t>> by_baseline;
+    // Phase evidence per baseline (as stored, a * na + b), baselines in increasing order.
+    for (std::size_t pair : baselines_seen) by_baseline[pair].clear();
+    baselines_seen.clear();
     for (std::size_t i : scan_rows[s]) {
       const auto [a, b] = cp.antenna_pair[i];
       if (a < 0 || b < 0 || static_cast<std::size_t>(a) >= na || static_cast<std::size_t>(b) >= na)
         continue;
       if (!std::isfinite(metrics.corrected_phase_rad[i])) continue;
-      by_baseline[{static_cast<std::size_t>(a), static_cast<std::size_t>(b)}].push_back(i);
+      const std::size_t pair = static_cast<std::size_t>(a) * na + static_cast<std::size_t>(b);
+      if (by_baseline[pair].empty()) baselines_seen.push_back(pair);
+      by_baseline[pair].push_back(i);
     }
+    std::sort(baselines_seen.begin(), baselines_seen.end());
     std::vector<BaselineWindow> baselines;
-    for (const auto& [pair, rows] : by_baseline) {
+    for (std::size_t pair : baselines_seen) {
+      const std::vector<std::size_t>& rows = by_baseline[pair];
       if (rows.size() < 5) continue;
       BaselineWindow bw;
-      bw.a = pair.first;
-      bw.b = pair.second;
+      bw.a = pair / na;
+      bw.b = pair % na;
       bw.n = rows.size();
       double cb = 0, sb = 0, ca = 0, sa = 0;
       for (std::size_t i : rows) {
