@@ -444,3 +444,25 @@ def test_killing_skyphase_report_leaves_no_renderer_and_no_partial_output(
     finally:
         if parent.poll() is None:
             parent.kill()
+
+
+def test_sigterm_right_after_the_partial_directory_is_made_leaves_nothing(tmp_path, monkeypatch):
+    """A SIGTERM that arrives the moment mkdtemp has made the partial directory (before the
+    cleanup knows its name) still leaves no partial directory and no output."""
+    from wvr.report import output as report_output
+
+    made = []
+    real_mkdtemp = report_output.tempfile.mkdtemp
+
+    def mkdtemp_then_sigterm(*args, **kwargs):
+        path = real_mkdtemp(*args, **kwargs)
+        made.append(path)
+        os.kill(os.getpid(), signal.SIGTERM)  # delivered as soon as it is not blocked
+        return path
+
+    monkeypatch.setattr(report_output.tempfile, "mkdtemp", mkdtemp_then_sigterm)
+    with pytest.raises(SystemExit):
+        with report_output.report_directory(tmp_path / "report") as partial:
+            (partial / "index.html").write_text("never finished")
+    assert made, "mkdtemp was not called"
+    assert list(tmp_path.iterdir()) == [], "a partial or complete report was left"

@@ -96,13 +96,20 @@ def report_directory(output):
     check_output(output)
     output.parent.mkdir(parents=True, exist_ok=True)
     with _terminate_cleanly():
-        partial = pathlib.Path(tempfile.mkdtemp(prefix=f".{output.name}.partial-",
-                                                dir=output.parent))
-        _apply_umask(partial)
+        # SIGTERM is held back until the new directory is known to the cleanup below: arriving
+        # after mkdtemp made it but before `partial` names it, it would leave it behind.
+        signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGTERM})
+        partial = None
         try:
+            partial = pathlib.Path(tempfile.mkdtemp(prefix=f".{output.name}.partial-",
+                                                    dir=output.parent))
+            signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGTERM})
+            _apply_umask(partial)
             yield partial
             check_output(output)  # the output may have appeared while we were writing
             _swap_into_place(partial, output)
         except BaseException:
-            shutil.rmtree(partial, ignore_errors=True)
+            signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGTERM})
+            if partial is not None:
+                shutil.rmtree(partial, ignore_errors=True)
             raise
