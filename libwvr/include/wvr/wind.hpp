@@ -22,8 +22,8 @@ struct WindOptions {
   double min_baseline_m = 0.0;    // shorter pairs are not used
   double max_baseline_m = 1e300;  // longer pairs are not used
   // Series longer than this are searched first on block means (at most this many points),
-  // then at full resolution around the coarse peak: 64 antennas x 8 h at 1 s take 6 s
-  // instead of 50 s, with the same wind.
+  // then at full resolution around the coarse peak: the same lags as a full-resolution search
+  // (StructureFunctionNight.LongNightsAreSearchedCoarseThenFine) at a fraction of the cost.
   std::size_t coarse_search_points = 4096;
   int threads = 0;  // antenna pairs spread over threads (0 = all cores); results do not change
 

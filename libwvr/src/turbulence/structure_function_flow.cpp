@@ -349,7 +349,10 @@ WindEstimate estimate_wind(const Night& night,
   std::vector<bool> usable(na, false);
   // Block means for the coarse lag search: long nights are searched on at most
   // coarse_search_points points, then refined at full resolution around the coarse peak.
-  const std::size_t factor = std::max<std::size_t>(1, grid.length / options.coarse_search_points);
+  // Blocks of `factor` samples, rounded up: a series of 7200 samples (2 h at 1 s) is searched on
+  // 3600 block means, not at full resolution over every lag.
+  const std::size_t factor =
+      (grid.length + options.coarse_search_points - 1) / options.coarse_search_points;
   for (std::size_t a = 0; a < na; ++a) {
     std::vector<double> x = regular_path_m(paths, grid, a);
     if (half > 0) x = highpass(x, half);
