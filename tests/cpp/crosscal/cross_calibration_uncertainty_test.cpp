@@ -6,6 +6,7 @@
 #include <iostream>
 #include <random>
 
+#include "crosscal/cross_calibration_night.hpp"
 #include "test_util.hpp"
 #include "wvr/radiometer_cross_calibration.hpp"
 #include "wvr/scenario.hpp"
@@ -13,37 +14,6 @@
 
 namespace wvr {
 namespace {
-
-// The night of radiometer_cross_calibration_test without its faults: two hours through transit,
-// 8 antennas within 200 m under a 100 um wet screen.
-const std::string kNight = R"(
-name = "cross-calibration uncertainty night"
-seed = 1
-duration_s = 7200.0
-integration_s = 2.0
-site_file = "sites/demo-site.toml"
-radiometer_file = "radiometers/demo-183-dsb.toml"
-[array]
-layout = "random"
-antenna_count = 8
-radius_m = 200.0
-[atmosphere]
-pwv_mm = 1.0
-pwv_drift_mm_per_hour = 0.3
-[source]
-declination_deg = -35.0
-start_hour_angle_h = -1.0
-[observing]
-obs_freq_ghz = 230.0
-[[turbulence]]
-kind = "wet"
-height_m = 500.0
-thickness_m = 500.0
-outer_scale_m = 4000.0
-wind_east_m_s = 8.0
-wind_north_m_s = 0.0
-path_rms_um = 100.0
-)";
 
 struct Pulls {
   std::vector<double> offset, gain;  // one per unit and channel
@@ -57,7 +27,8 @@ struct Pulls {
 };
 
 Night simulated_night(std::uint64_t seed) {
-  Scenario scenario = parse_scenario(kNight, "crosscal-sigma.toml", test::testdata(""));
+  Scenario scenario =
+      parse_scenario(test::kCrossCalibrationNight, "crosscal-sigma.toml", test::testdata(""));
   scenario.seed = seed;
   return simulate_night(scenario);
 }
@@ -134,7 +105,9 @@ TEST(CrossCalibrationUncertainty, PullsOnSimulatedNightsAreNearOne) {
 // that take the blocks as independent are 3.2 times too small (measured: pull rms 3.1). With the
 // block jackknife 1.4: 12-minute groups are not much longer than the correlation time.
 TEST(CrossCalibrationUncertainty, PullsUnderAutocorrelatedResidualsAreNearOne) {
-  Scenario scenario = parse_scenario(kNight, "crosscal-sigma.toml", test::testdata(""));
+  Scenario scenario =
+      parse_scenario(test::kCrossCalibrationNight, "crosscal-sigma.toml", test::testdata(""));
+  scenario.seed = 1;
   scenario.turbulence.clear();
   const Night quiet = simulate_night(scenario);
   const std::size_t na = quiet.antenna_count(), nt = quiet.time_count(), nc = quiet.channel_count();

@@ -7,6 +7,7 @@
 
 #include <cmath>
 
+#include "crosscal/cross_calibration_night.hpp"
 #include "test_util.hpp"
 #include "wvr/error.hpp"
 #include "wvr/scenario.hpp"
@@ -20,33 +21,7 @@ namespace {
 // from a drift. A compact array (200 m radius) under a 100 um wet screen: the turbulent column
 // differences between antennas set the floor (see the header; on a 600 m radius under 200 um
 // the same night gives 5.4 K and 2.8 %).
-const std::string kNight = R"(
-name = "cross-calibration night"
-seed = 17
-duration_s = 7200.0
-integration_s = 2.0
-site_file = "sites/demo-site.toml"
-radiometer_file = "radiometers/demo-183-dsb.toml"
-[array]
-layout = "random"
-antenna_count = 8
-radius_m = 200.0
-[atmosphere]
-pwv_mm = 1.0
-pwv_drift_mm_per_hour = 0.3
-[source]
-declination_deg = -35.0
-start_hour_angle_h = -1.0
-[observing]
-obs_freq_ghz = 230.0
-[[turbulence]]
-kind = "wet"
-height_m = 500.0
-thickness_m = 500.0
-outer_scale_m = 4000.0
-wind_east_m_s = 8.0
-wind_north_m_s = 0.0
-path_rms_um = 100.0
+const std::string kNight = test::kCrossCalibrationNight + R"(
 [[faults]]
 antenna = 2
 kind = "spike"
