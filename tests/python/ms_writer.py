@@ -13,6 +13,7 @@ offsets turned into WGS84 Earth-fixed coordinates (NIMA TR8350.2 constants).
     /usr/bin/python3 ms_writer.py NIGHT.h5 OUT.ms
 """
 import datetime
+import shutil
 import sys
 
 import h5py
@@ -80,6 +81,24 @@ def _subtable(ms, name, rows):
     t = ct.table(f"{ms}/{name}", readonly=False, ack=False)
     t.addrows(rows)
     return t
+
+
+def _pointing_table(ms):
+    """Replaces the default POINTING subtable by one whose columns all live in a
+    StandardStMan. The default keeps them in an IncrementalStMan, which (measured with
+    python-casacore 3.5.2 on casacore 3.5.0) costs time quadratic in the rows when every row's
+    direction differs: 40,000 rows took 24 s, a 40-antenna 2-hour night's 288,000 rows
+    more than 10 minutes; here 0.4 s."""
+    shutil.rmtree(f"{ms}/POINTING")
+    columns = ["ANTENNA_ID", "TIME", "INTERVAL", "NAME", "NUM_POLY", "TIME_ORIGIN",
+               "DIRECTION", "TARGET", "TRACKING"]
+    dminfo = {"*1": {"TYPE": "StandardStMan", "NAME": "SSMPointing",
+                     "SPEC": {"BUCKETSIZE": 1 << 20}, "COLUMNS": columns}}
+    table = ct.default_ms_subtable("POINTING", f"{ms}/POINTING", dminfo=dminfo)
+    main = ct.table(ms, readonly=False, ack=False)
+    main.putkeyword("POINTING", f"Table: {ms}/POINTING")
+    main.close()
+    return table
 
 
 def write_ms(night_path, ms, *, clock_offset_s=0.0, pointing="azel", weather=True,
@@ -233,14 +252,17 @@ def write_ms(night_path, ms, *, clock_offset_s=0.0, pointing="azel", weather=Tru
     main.close()
 
     if pointing == "azel":
-        p = ct.table(f"{ms}/POINTING", readonly=False, ack=False)
+        kept = np.ones(nt, dtype=bool) if duration_s is None else n["time_s"] < n["time_s"][0] + duration_s
+        nk = int(np.count_nonzero(kept))
+        p = _pointing_table(ms)
         p.putcolkeyword("DIRECTION", "MEASINFO", {"type": "direction", "Ref": "AZEL"})
-        p.addrows(na * nt)
-        p.putcol("ANTENNA_ID", np.repeat(np.arange(na, dtype=np.int32), nt))
-        p.putcol("TIME", np.tile(epoch + n["time_s"], na))
-        p.putcol("INTERVAL", np.ones(na * nt))
-        p.putcol("NUM_POLY", np.zeros(na * nt, dtype=np.int32))
-        direction = np.radians(np.stack([n["az"].ravel(), n["el"].ravel()], axis=1))[:, None, :]
+        p.addrows(na * nk)
+        p.putcol("ANTENNA_ID", np.repeat(np.arange(na, dtype=np.int32), nk))
+        p.putcol("TIME", np.tile(epoch + n["time_s"][kept], na))
+        p.putcol("INTERVAL", np.ones(na * nk))
+        p.putcol("NUM_POLY", np.zeros(na * nk, dtype=np.int32))
+        direction = np.radians(np.stack([n["az"][:, kept].ravel(), n["el"][:, kept].ravel()],
+                                        axis=1))[:, None, :]
         p.putcol("DIRECTION", direction)
         p.putcol("TARGET", direction)
         p.close()
