@@ -1,5 +1,5 @@
 """One night of a survey: the night pipeline (wvr.process_night, in C++ with the GIL released)
-on one night file, reduced to one catalogue row. Runs on a dask worker; never raises for a bad
+on one night file or MeasurementSet (imported first), reduced to one catalogue row. Runs on a dask worker; never raises for a bad
 night: the row then says status "failed" and holds the error."""
 import json
 import math
@@ -13,7 +13,7 @@ import numpy as np
 
 import wvr
 
-from wvr.survey._inputs import SurveyInputError, content_sha256
+from wvr.survey._inputs import SurveyInputError, content_sha256, is_measurement_set
 
 #: Options of wvr.process_night a survey passes through (besides the two files below).
 PROCESS_OPTIONS = (
@@ -24,6 +24,11 @@ PROCESS_OPTIONS = (
 )
 #: Options naming files: a site TOML replacing the night's own site, diagnosis thresholds.
 FILE_OPTIONS = ("site_file", "thresholds_file")
+#: Options for MeasurementSet inputs: wvr.import_measurement_set's arguments with an "ms_"
+#: prefix, ms_radiometer_file for its radiometer TOML (ms_brightness is required when the
+#: survey holds a MeasurementSet: archives differ).
+IMPORT_OPTIONS = ("ms_brightness", "ms_radiometer_window", "ms_radiometer_file",
+                  "ms_reference_antenna", "ms_clock_offset", "ms_clock_search_s")
 
 #: Verdicts under which the correction did its job (the sky needed it and it worked, or the
 #: sky was quiet enough that it did not matter).
@@ -33,8 +38,8 @@ EFFECTIVE_VERDICTS = ("corrected",)
 def check_options(options):
     """Raises SurveyInputError naming an option the survey does not know."""
     for name in options or {}:
-        if name not in PROCESS_OPTIONS and name not in FILE_OPTIONS:
-            known = ", ".join(PROCESS_OPTIONS + FILE_OPTIONS)
+        if name not in PROCESS_OPTIONS + FILE_OPTIONS + IMPORT_OPTIONS:
+            known = ", ".join(PROCESS_OPTIONS + FILE_OPTIONS + IMPORT_OPTIONS)
             raise SurveyInputError(f"options: unknown option '{name}' (known: {known})")
 
 
@@ -46,6 +51,42 @@ def _process_arguments(options, threads):
         arguments["thresholds"] = wvr.load_diagnosis_thresholds(options["thresholds_file"])
     arguments["threads"] = threads
     return arguments
+
+
+def check_input_options(paths, options):
+    """Raises SurveyInputError before any work when a MeasurementSet among `paths` cannot be
+    imported with `options` (no ms_brightness, or no MeasurementSet support)."""
+    first_ms = next((p for p in paths if is_measurement_set(p)), None)
+    if first_ms is not None:
+        _require_import(first_ms, options)
+
+
+def _require_import(path, options):
+    if not wvr.HAS_MEASUREMENT_SETS:
+        raise SurveyInputError(f"{path}: a MeasurementSet, but this wvr was built without "
+                               "casacore (no MeasurementSet import)")
+    if "ms_brightness" not in options:
+        raise SurveyInputError(f"{path}: a MeasurementSet needs the option ms_brightness "
+                               "('rayleigh-jeans' or 'planck': how its radiometer window stores "
+                               "brightness)")
+
+
+def read_input(path, options):
+    """The night at `path` and notes on how it was read: a night file as it is; a
+    MeasurementSet through wvr.import_measurement_set with the survey's ms_* options."""
+    if not is_measurement_set(path):
+        return wvr.read_night(str(path)), []
+    _require_import(path, options)
+    arguments = {name[len("ms_"):]: options[name] for name in IMPORT_OPTIONS if name in options}
+    if "radiometer_file" in arguments:
+        arguments["radiometer"] = arguments.pop("radiometer_file")
+    night, report = wvr.import_measurement_set(str(path), **arguments)
+    notes = [f"import: {note}" for note in report["notes"]]
+    offsets = [c for c in report["clock_offsets"] if c["estimated"]]
+    if offsets:
+        notes.append("import: radiometer clock offsets applied (s): " + ", ".join(
+            f"{c['offset_s']:+.3f} +/- {c['sigma_s']:.3f}" for c in offsets))
+    return night, notes
 
 
 def _finite(value):
@@ -161,9 +202,10 @@ def process_one(path, options=None, sha256=None, threads=1):
         if row["content_sha256"] is None:
             row["content_sha256"] = content_sha256(path)
         check_options(options)
-        night = wvr.read_night(str(path))
+        night, input_notes = read_input(path, options)
         result = wvr.process_night(night, **_process_arguments(options, threads))
         row.update(night_row(night, result))
+        row["notes_json"] = json.dumps(input_notes + json.loads(row["notes_json"]))
         row["status"] = "ok"
         row["error"] = None
     except Exception as error:  # noqa: BLE001  a bad night is recorded, never fatal

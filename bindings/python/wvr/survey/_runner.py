@@ -5,7 +5,7 @@ import sys
 import time
 
 from wvr.survey._inputs import canonical_options, content_sha256, resolve_nights
-from wvr.survey._night_task import check_options, process_one
+from wvr.survey._night_task import check_input_options, check_options, process_one
 from wvr.survey.catalogue import Catalogue
 
 #: Statuses a rerun does not repeat (failed nights too unless retry_failed).
@@ -58,6 +58,7 @@ def run_survey(nights=(), catalogue="survey.sqlite", *, manifests=(), options=No
     check_options(options)
     options_json = canonical_options(options)
     paths = resolve_nights(nights, manifests)
+    check_input_options(paths, options)
     with Catalogue(catalogue) as cat:
         done = cat.statuses(options_json)
         skip = _DONE if retry_failed else _DONE + ("failed",)

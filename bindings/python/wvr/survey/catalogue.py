@@ -15,10 +15,11 @@ import wvr
 
 #: (name, SQL type, meaning with unit). Identity columns first.
 COLUMNS = (
-    ("content_sha256", "TEXT NOT NULL", "SHA-256 of the night file's bytes"),
+    ("content_sha256", "TEXT NOT NULL",
+     "SHA-256 of the night file's bytes (of a MeasurementSet: its files' names and bytes)"),
     ("options_json", "TEXT NOT NULL", "processing options, canonical JSON"),
-    ("path", "TEXT NOT NULL", "night file as given (absolute)"),
-    ("night_name", "TEXT", "the file's name without extension"),
+    ("path", "TEXT NOT NULL", "night file or MeasurementSet directory (absolute)"),
+    ("night_name", "TEXT", "its name without extension"),
     ("status", "TEXT NOT NULL", "ok or failed"),
     ("error", "TEXT", "why the night failed (type: message)"),
     ("traceback", "TEXT", "where it failed"),
