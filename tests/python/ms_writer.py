@@ -112,8 +112,10 @@ def write_ms(night_path, ms, *, clock_offset_s=0.0, pointing="azel", weather=Tru
     lists (antenna, time index) samples written with FLAG_ROW; extra_science_windows adds
     spectral windows (frequencies in GHz) with calibrator rows of their own;
     science_channel_offsets_ghz places each science window's channels at its frequency plus
-    these offsets (visibilities equal in every channel); duration_s keeps only the main-table
-    rows of the night's first duration_s seconds."""
+    these offsets (visibilities equal in every channel); float_data True writes every row's
+    real part to FLOAT_DATA (no DATA column), "radiometer" the radiometer rows to FLOAT_DATA
+    and the others to DATA; duration_s keeps only the main-table rows of the night's first
+    duration_s seconds."""
     n = read_night(night_path)
     na, nt = len(n["names"]), len(n["time_s"])
     nc = len(n["if_ghz"])
@@ -218,7 +220,7 @@ def write_ms(night_path, ms, *, clock_offset_s=0.0, pointing="azel", weather=Tru
     main = ct.table(ms, readonly=False, ack=False)
     if float_data:
         main.addcols(ct.maketabdesc(ct.makearrcoldesc("FLOAT_DATA", 0.0, ndim=2, valuetype="float")))
-    else:
+    if float_data != True:  # noqa: E712  (False or "radiometer")
         main.addcols(ct.maketabdesc(ct.makearrcoldesc("DATA", 0j, ndim=2, valuetype="complex")))
     main.addrows(len(rows))
     field_index = {s: i for i, s in enumerate(sources)}
@@ -234,16 +236,20 @@ def write_ms(night_path, ms, *, clock_offset_s=0.0, pointing="azel", weather=Tru
     main.putcol("STATE_ID", np.array([0 if n["intent"][r[4]] == "calibrator" else 1 for r in rows],
                                      dtype=np.int32))
     main.putcol("FLAG_ROW", np.array([r[6] for r in rows]))
-    data_column = "FLOAT_DATA" if float_data else "DATA"
+    def data_column(row):
+        in_float = float_data is True or (float_data == "radiometer" and row[3] == radiometer_dd)
+        return "FLOAT_DATA" if in_float else "DATA"
+
     start = 0
-    while start < len(rows):  # blocks of rows with one cell shape, written at once
+    while start < len(rows):  # blocks of rows with one cell shape and column, written at once
         stop = start
-        while stop < len(rows) and rows[stop][5].shape == rows[start][5].shape:
+        while (stop < len(rows) and rows[stop][5].shape == rows[start][5].shape
+               and data_column(rows[stop]) == data_column(rows[start])):
             stop += 1
         block = np.stack([r[5] for r in rows[start:stop]])
-        if float_data:
+        if data_column(rows[start]) == "FLOAT_DATA":
             block = block.real.astype(np.float32)
-        main.putcol(data_column, block, startrow=start, nrow=stop - start)
+        main.putcol(data_column(rows[start]), block, startrow=start, nrow=stop - start)
         main.putcol("FLAG", np.zeros(block.shape, dtype=bool), startrow=start, nrow=stop - start)
         weights = np.ones((stop - start, block.shape[2]), dtype=np.float32)
         main.putcol("WEIGHT", weights, startrow=start, nrow=stop - start)

@@ -233,6 +233,29 @@ def test_flagged_rows_and_missing_autocorrelations_become_invalid(work, night_fi
     assert any("antennas" in n and night.antenna_names[3] in n for n in report["notes"])
 
 
+def test_float_data_holds_brightness_but_no_phases(work, night_file):
+    # Radiometer rows in FLOAT_DATA, calibrator visibilities in DATA: both read.
+    both = work / "float-radiometer.ms"
+    ms_writer.write_ms(night_file, str(both), float_data="radiometer")
+    truth = wvr.read_night(night_file)
+    night, report = import_ms(both)
+    valid = truth.valid.astype(bool)
+    # FLOAT_DATA is single precision, as DATA: about 2e-5 K at 300 K.
+    np.testing.assert_allclose(night.brightness_k[valid], truth.brightness_k[valid], atol=5e-5)
+    assert night.calibrator_phases["time_s"].size == truth.calibrator_phases["time_s"].size
+    assert not any("FLOAT_DATA" in n for n in report["notes"])
+    # Every row in FLOAT_DATA: the brightness still, the calibrator phases not, and a note says
+    # why rather than a silently empty calibrator table.
+    only = work / "float-only.ms"
+    ms_writer.write_ms(night_file, str(only), float_data=True)
+    night, report = import_ms(only)
+    np.testing.assert_allclose(night.brightness_k[valid], truth.brightness_k[valid], atol=5e-5)
+    assert night.calibrator_phases["time_s"].size == 0
+    calibrator_rows = truth.calibrator_phases["time_s"].size
+    assert f"{calibrator_rows} calibrator cross-correlation rows in a main table without DATA" \
+        in " ".join(report["notes"])
+
+
 def test_several_windows_and_fields(work, night_file):
     path = work / "windows.ms"
     ms_writer.write_ms(night_file, str(path), extra_science_windows=(345.0,))

@@ -262,6 +262,11 @@ MsImport import_unchecked(const std::filesystem::path& ms, const MsImportOptions
     notes.push_back(std::to_string(main.flagged_calibrator_rows) +
                     " calibrator rows fully flagged: no phase");
   }
+  if (main.calibrator_rows_without_data > 0) {
+    notes.push_back(std::to_string(main.calibrator_rows_without_data) +
+                    " calibrator cross-correlation rows in a main table without DATA "
+                    "(FLOAT_DATA holds no phase): no calibrator phases");
+  }
   if (std::none_of(night.scans.begin(), night.scans.end(),
                    [](const Scan& s) { return s.intent == ScanIntent::kCalibrator; })) {
     notes.push_back(

@@ -94,7 +94,9 @@ MainTableContents read_main_table(const std::filesystem::path& ms,
           if (a1[i] != a2[i]) continue;  // radiometers give autocorrelations only
           RadiometerSample s{t[i], a1[i], field[i], false, out.radiometer_values.size()};
           flag.get(row, flags, true);
-          if (has_float_data) {
+          // An MS may hold both columns, with the radiometer rows in either: FLOAT_DATA where
+          // its cell is defined, DATA's real part otherwise.
+          if (has_float_data && (!has_data || float_data.isDefined(row))) {
             float_data.get(row, real_values, true);
           } else {
             data.get(row, vis, true);
@@ -138,7 +140,11 @@ MainTableContents read_main_table(const std::filesystem::path& ms,
           sr.stop_mjd_s = std::max(sr.stop_mjd_s, t[i] + 0.5 * dt[i]);
           if (sr.intent == StateIntent::kOther) sr.intent = intent;
         }
-        if (intent != StateIntent::kCalibrator || !has_data) continue;
+        if (intent != StateIntent::kCalibrator) continue;
+        if (!has_data) {
+          ++out.calibrator_rows_without_data;
+          continue;
+        }
         const int ref = request.reference_antenna;
         if (ref >= 0 && a1[i] != ref && a2[i] != ref) continue;
         if (row_flagged[i]) {

@@ -43,6 +43,9 @@ struct MainTableContents {
   std::size_t rows = 0;
   std::size_t flagged_radiometer_samples = 0;
   std::size_t flagged_calibrator_rows = 0;
+  // Calibrator cross-correlation rows of a main table without DATA: FLOAT_DATA holds real
+  // values only, so they give no phase.
+  std::size_t calibrator_rows_without_data = 0;
 };
 
 struct MainTableRequest {
