@@ -115,13 +115,16 @@ Processed process_and_write(const CommonOptions& o, const wvr::NightProcessingOp
   };
   Processed p;
   auto start = Clock::now();
-  p.night = wvr::read_night(o.night_file);
+  wvr::NightFileStamp input_stamp;
+  p.night = wvr::read_night(o.night_file, input_stamp);
   const double read_s = seconds_since(start);
   p.result = wvr::process_night(p.night, options);
   start = Clock::now();
   wvr::NightWriteOptions write;
   write.overwrite_output = o.overwrite;
   write.replace_existing_results = true;
+  write.threads = o.threads;
+  write.input_read_with = input_stamp;
   wvr::add_result_groups(o.night_file, o.output_file, p.result.result_groups, write);
   const double write_s = seconds_since(start);
   if (o.print_step_times) {

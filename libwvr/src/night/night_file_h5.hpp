@@ -153,7 +153,11 @@ class Writer {
   // `start_from` empty: a new file; else a copy of that file's bytes to add objects to.
   // `gzip_level` 1-9 compresses chunked datasets (after byte shuffle); 0 leaves them raw.
   // Every non-scalar, non-empty dataset is chunked and carries a Fletcher-32 checksum.
-  Writer(const std::filesystem::path& start_from, std::string source, int gzip_level);
+  // `threads` (0 = all cores) compress the chunks of a dataset (night/chunk_filters.hpp).
+  Writer(const std::filesystem::path& start_from,
+         std::string source,
+         int gzip_level,
+         int threads = 0);
   ~Writer();
   Writer(const Writer&) = delete;
   Writer& operator=(const Writer&) = delete;
@@ -204,10 +208,20 @@ class Writer {
                     const Shape& shape,
                     const Shape& chunk,
                     bool compress) const;
+  // Compresses the chunks of a new dataset on threads_ threads and stores them directly;
+  // false (nothing written) when the memory layout differs from the file's.
+  bool write_filtered_chunks(const std::string& path,
+                             hid_t dataset,
+                             hid_t file_type,
+                             hid_t memory_type,
+                             const void* data,
+                             const Shape& shape,
+                             const Shape& chunk) const;
 
   struct Image;
   std::string source_;
   int gzip_level_ = 4;
+  int threads_ = 0;
   std::unique_ptr<Image> image_;  // declared before file_: outlives the open file
   Id file_;
 };

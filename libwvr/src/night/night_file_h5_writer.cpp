@@ -12,6 +12,8 @@
 #include <iterator>
 #include <utility>
 
+#include "core/parallel_for.hpp"
+#include "night/chunk_filters.hpp"
 #include "night/night_file_h5.hpp"
 #include "wvr/error.hpp"
 
@@ -59,8 +61,14 @@ struct Writer::Image {
   static herr_t unshare(void*) { return 0; }
 };
 
-Writer::Writer(const std::filesystem::path& start_from, std::string source, int gzip_level)
-    : source_(std::move(source)), gzip_level_(gzip_level), image_(std::make_unique<Image>()) {
+Writer::Writer(const std::filesystem::path& start_from,
+               std::string source,
+               int gzip_level,
+               int threads)
+    : source_(std::move(source)),
+      gzip_level_(gzip_level),
+      threads_(threads),
+      image_(std::make_unique<Image>()) {
   // Strong close: closing the file closes every object still open in it.
   Id fapl(H5Pcreate(H5P_FILE_ACCESS), H5Pclose);
   H5Pset_fclose_degree(fapl.get(), H5F_CLOSE_STRONG);
@@ -221,12 +229,115 @@ Id Writer::write_array(const std::string& path,
                         H5P_DEFAULT),
              H5Dclose);
   if (dataset.get() < 0) fail(path, "cannot be created");
-  if (element_count(shape) > 0 &&
+  const bool filtered_here =
+      !chunk.empty() && gzip_level_ > 0 && element_count(shape) > element_count(chunk) &&
+      write_filtered_chunks(path, dataset.get(), file_type, memory_type, data, shape, chunk);
+  if (!filtered_here && element_count(shape) > 0 &&
       H5Dwrite(dataset.get(), memory_type, H5S_ALL, H5S_ALL, H5P_DEFAULT, data) < 0) {
     fail(path, "cannot be written");
   }
   string_attribute(dataset.get(), path, "units", units);
   return dataset;
+}
+
+namespace {
+
+bool same_layout(hid_t file_type, hid_t memory_type) {
+  const H5T_class_t type_class = H5Tget_class(file_type);
+  if (type_class != H5Tget_class(memory_type) || H5Tget_size(file_type) != H5Tget_size(memory_type))
+    return false;
+  if (type_class == H5T_FLOAT) return H5Tget_order(file_type) == H5Tget_order(memory_type);
+  if (type_class == H5T_INTEGER)
+    return H5Tget_order(file_type) == H5Tget_order(memory_type) &&
+           H5Tget_sign(file_type) == H5Tget_sign(memory_type);
+  return false;
+}
+
+// Copies the chunk at element offsets `origin` of a row-major array of `shape` into `out`
+// (row-major in the chunk's shape, already zeroed: HDF5 fills the part of an edge chunk
+// outside the dataset with the fill value, 0).
+void gather_chunk(const std::uint8_t* data,
+                  const Shape& shape,
+                  const Shape& chunk,
+                  const Shape& origin,
+                  std::size_t element_size,
+                  std::uint8_t* out) {
+  const std::size_t rank = shape.size();
+  const hsize_t row_elements = std::min(chunk[rank - 1], shape[rank - 1] - origin[rank - 1]);
+  Shape index(rank, 0);  // position within the chunk; the last axis is copied as a row
+  while (true) {
+    bool inside = true;
+    std::size_t source = 0, target = 0;
+    for (std::size_t d = 0; d < rank; ++d) {
+      inside = inside && origin[d] + index[d] < shape[d];
+      source = source * shape[d] + origin[d] + index[d];
+      target = target * chunk[d] + index[d];
+    }
+    if (inside) {
+      std::memcpy(out + target * element_size, data + source * element_size,
+                  row_elements * element_size);
+    }
+    std::size_t d = rank - 1;  // next row: advance the axes before the last
+    while (d > 0) {
+      if (++index[d - 1] < chunk[d - 1]) break;
+      index[d - 1] = 0;
+      --d;
+    }
+    if (d == 0) return;
+  }
+}
+
+}  // namespace
+
+bool Writer::write_filtered_chunks(const std::string& path,
+                                   hid_t dataset,
+                                   hid_t file_type,
+                                   hid_t memory_type,
+                                   const void* data,
+                                   const Shape& shape,
+                                   const Shape& chunk) const {
+  if (!same_layout(file_type, memory_type)) return false;
+  const std::size_t rank = shape.size();
+  const std::size_t element_size = H5Tget_size(file_type);
+  Shape grid(rank);
+  std::size_t chunk_count = 1;
+  for (std::size_t d = 0; d < rank; ++d) {
+    grid[d] = (shape[d] + chunk[d] - 1) / chunk[d];
+    chunk_count *= grid[d];
+  }
+  const std::size_t chunk_bytes = element_count(chunk) * element_size;
+  const auto* bytes = static_cast<const std::uint8_t*>(data);
+  const auto origin_of = [&](std::size_t c) {
+    Shape origin(rank);
+    for (std::size_t d = rank; d-- > 0;) {
+      origin[d] = (c % grid[d]) * chunk[d];
+      c /= grid[d];
+    }
+    return origin;
+  };
+  // Batches bound the compressed bytes held at once.
+  const std::size_t workers = worker_count(threads_, chunk_count);
+  const std::size_t batch = 32 * workers;
+  std::vector<FilteredChunk> filtered(std::min(batch, chunk_count));
+  for (std::size_t first = 0; first < chunk_count; first += batch) {
+    const std::size_t n = std::min(batch, chunk_count - first);
+    parallel_blocks(n, workers, [&](std::size_t begin, std::size_t end, std::size_t) {
+      std::vector<std::uint8_t> buffer(chunk_bytes);
+      for (std::size_t i = begin; i < end; ++i) {
+        std::fill(buffer.begin(), buffer.end(), 0);
+        gather_chunk(bytes, shape, chunk, origin_of(first + i), element_size, buffer.data());
+        filtered[i] = filter_chunk(buffer.data(), chunk_bytes, element_size, gzip_level_);
+      }
+    });
+    for (std::size_t i = 0; i < n; ++i) {
+      const Shape origin = origin_of(first + i);
+      if (H5Dwrite_chunk(dataset, H5P_DEFAULT, filtered[i].filter_mask, origin.data(),
+                         filtered[i].bytes.size(), filtered[i].bytes.data()) < 0) {
+        fail(path, "chunk " + std::to_string(first + i) + " cannot be written");
+      }
+    }
+  }
+  return true;
 }
 
 Id Writer::write_strings(const std::string& path,

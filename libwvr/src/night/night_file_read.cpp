@@ -309,4 +309,14 @@ Night read_night(const std::filesystem::path& path) {
   return night;
 }
 
+Night read_night(const std::filesystem::path& path, NightFileStamp& stamp) {
+  const NightFileStamp before = night_file_stamp(path);
+  Night night = read_night(path);
+  if (night_file_stamp(path) != before) {
+    throw InvalidInput(path.string() + ": changed while it was being read");
+  }
+  stamp = before;
+  return night;
+}
+
 }  // namespace wvr

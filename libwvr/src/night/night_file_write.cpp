@@ -138,6 +138,10 @@ void check_output(const fs::path& output, const NightWriteOptions& options, cons
     throw InvalidInput(name + ": compression_level = " + std::to_string(options.compression_level) +
                        " is outside [0, 9]");
   }
+  if (options.threads < 0) {
+    throw InvalidInput(name + ": threads = " + std::to_string(options.threads) +
+                       " is negative (0 means all cores)");
+  }
   if (!output.has_filename()) throw InvalidInput(name + ": output path names no file");
   const fs::path directory = output.parent_path().empty() ? fs::path(".") : output.parent_path();
   std::error_code ec;
@@ -390,7 +394,7 @@ void write_night(const Night& night, const fs::path& path, const NightWriteOptio
   check_output(path, options, nullptr);
   PendingFile pending(path);
   {
-    Writer writer({}, path.string(), options.compression_level);
+    Writer writer({}, path.string(), options.compression_level, options.threads);
     Id root(H5Gopen2(writer.file(), "/", H5P_DEFAULT), H5Gclose);
     writer.string_attribute(root.get(), "/", "schema", kNightSchemaName);
     writer.int_attribute(root.get(), "/", "schema_version", kNightSchemaVersion);
@@ -419,10 +423,21 @@ void add_result_groups(const fs::path& input,
                        const NightWriteOptions& options) {
   const detail::h5::QuietErrors quiet;
   check_output(output, options, &input);
-  // Validates the whole input, so results are never added to a file readers would reject.
-  const Night night = read_night(input);
+  // The whole input is validated (here, or by the caller who read it with the stamp it still
+  // has), so results are never added to a file readers would reject.
+  const bool read_by_caller =
+      options.input_read_with && *options.input_read_with == night_file_stamp(input);
   std::set<std::string> existing, added;
-  for (const ResultGroup& group : night.results) existing.insert(group.stage);
+  if (read_by_caller) {
+    const detail::h5::Reader reader(input);
+    if (reader.exists("/results")) {
+      const Id results = reader.open_group("/results");
+      for (const std::string& stage : reader.member_names(results.get(), "/results"))
+        existing.insert(stage);
+    }
+  } else {
+    for (const ResultGroup& group : read_night(input).results) existing.insert(group.stage);
+  }
   for (const ResultGroup& group : groups) {
     detail::validate_result_group(group, "result group for " + output.string());
     if (!added.insert(group.stage).second) {
@@ -437,7 +452,11 @@ void add_result_groups(const fs::path& input,
 
   PendingFile pending(output);
   {
-    Writer writer(input, output.string(), options.compression_level);
+    Writer writer(input, output.string(), options.compression_level, options.threads);
+    // The bytes copied above are the ones the caller validated only if the file is unchanged.
+    if (read_by_caller && night_file_stamp(input) != *options.input_read_with) {
+      throw InvalidInput(input.string() + ": changed while results were being added to a copy");
+    }
     ensure_results_group(writer);
     for (const ResultGroup& group : groups) {
       if (existing.count(group.stage) > 0) writer.delete_link("/results/" + group.stage);

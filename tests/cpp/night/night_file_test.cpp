@@ -307,6 +307,24 @@ std::string break_and_read(const fs::path& good, const fs::path& broken, Edit ed
   return invalid_input_message([&] { read_night(broken); });
 }
 
+NightWriteOptions compressed_at(int level) {
+  NightWriteOptions options;
+  options.compression_level = level;
+  return options;
+}
+
+NightWriteOptions overwriting() {
+  NightWriteOptions options;
+  options.overwrite_output = true;
+  return options;
+}
+
+NightWriteOptions replacing_results() {
+  NightWriteOptions options;
+  options.replace_existing_results = true;
+  return options;
+}
+
 TEST_F(NightFileTest, RoundTripIsBitExact) {
   Night night = make_night(3, 500, 4);
   night.results.push_back(make_result_group("retrieval", 3, 500));
@@ -392,10 +410,10 @@ TEST_F(NightFileTest, StorageFollowsTheFormatDescription) {
 
 TEST_F(NightFileTest, UncompressedWriteRoundTrips) {
   const Night night = make_night(2, 300, 3);
-  write_night(night, path("raw.h5"), {.compression_level = 0});
+  write_night(night, path("raw.h5"), compressed_at(0));
   expect_same(night, read_night(path("raw.h5")));
   const std::string message =
-      invalid_input_message([&] { write_night(night, path("bad.h5"), {.compression_level = 10}); });
+      invalid_input_message([&] { write_night(night, path("bad.h5"), compressed_at(10)); });
   EXPECT_NE(message.find("compression_level = 10 is outside [0, 9]"), std::string::npos) << message;
 }
 
@@ -416,7 +434,7 @@ TEST_F(NightFileTest, WriteDoesNotOverwriteUnlessAsked) {
   const std::string message = invalid_input_message([&] { write_night(other, file); });
   EXPECT_NE(message.find("already exists"), std::string::npos) << message;
   EXPECT_EQ(read_night(file).antenna_count(), 3u);
-  write_night(other, file, {.overwrite_output = true});
+  write_night(other, file, overwriting());
   EXPECT_EQ(read_night(file).antenna_count(), 2u);
   EXPECT_EQ(listing(), std::vector<std::string>{"night.h5"});
 }
@@ -691,11 +709,44 @@ TEST_F(NightFileTest, AddResultGroupLeavesInputByteIdentical) {
   expect_same(expected, read_night(output2));
 }
 
+TEST_F(NightFileTest, InputReadWithAStampIsNotReadAgainUnlessItChanged) {
+  Night night = make_night(4, 300, 3);
+  night.results.push_back(make_result_group("flags", 4, 300));
+  const fs::path input = path("input.h5");
+  write_night(night, input);
+  NightFileStamp stamp;
+  const Night read = read_night(input, stamp);
+  EXPECT_EQ(stamp, night_file_stamp(input));
+  NightWriteOptions options;
+  options.input_read_with = stamp;
+  const ResultGroup group = make_result_group("retrieval", 4, 300);
+  add_result_groups(input, path("out.h5"), {group}, options);
+  Night expected = night;
+  expected.results.push_back(group);
+  expect_same(expected, read_night(path("out.h5")));
+  // The stages the input already holds are known without reading it: a duplicate is refused.
+  const std::string duplicate = invalid_input_message([&] {
+    add_result_groups(input, path("dup.h5"), {make_result_group("flags", 4, 300)}, options);
+  });
+  EXPECT_NE(duplicate.find("/results/flags already exists"), std::string::npos) << duplicate;
+
+  // Replaced after it was read, by an HDF5 file that is no night: validated again and
+  // refused, not copied.
+  fs::remove(input);
+  H5Fclose(H5Fcreate(input.c_str(), H5F_ACC_EXCL, H5P_DEFAULT, H5P_DEFAULT));
+  ASSERT_NE(night_file_stamp(input), stamp);
+  EXPECT_FALSE(invalid_input_message([&] {
+                 add_result_groups(input, path("out2.h5"), {group}, options);
+               }).empty());
+  EXPECT_FALSE(fs::exists(path("out2.h5")));
+  EXPECT_THROW(night_file_stamp(path("missing.h5")), InvalidInput);
+}
+
 TEST_F(NightFileTest, AddResultGroupRefusesInputAsOutputAndDuplicates) {
   const fs::path input = good_file("input.h5");
   const ResultGroup group = make_result_group("retrieval", 3, 200);
-  const std::string same = invalid_input_message(
-      [&] { add_result_group(input, input, group, {.overwrite_output = true}); });
+  const std::string same =
+      invalid_input_message([&] { add_result_group(input, input, group, overwriting()); });
   EXPECT_NE(same.find("is the input file"), std::string::npos) << same;
 
   const fs::path output = path("output.h5");
@@ -707,7 +758,7 @@ TEST_F(NightFileTest, AddResultGroupRefusesInputAsOutputAndDuplicates) {
 
   ResultGroup replacement = group;
   replacement.datasets = {{"scale", {}, std::vector<double>{2.0}, "1", {}}};
-  add_result_group(output, again, replacement, {.replace_existing_results = true});
+  add_result_group(output, again, replacement, replacing_results());
   const Night back = read_night(again);
   ASSERT_EQ(back.results.size(), 1u);
   ASSERT_EQ(back.results[0].datasets.size(), 1u);
