@@ -66,7 +66,8 @@ void write_night(const Night& night,
                  const NightWriteOptions& options = {});
 
 // Writes a copy of the night file `input` plus /results/<group.stage> to `output`.
-// `input` is validated first and left untouched; `output` must be a different file.
+// `input` is validated first (not again when options.input_read_with is its current stamp)
+// and left untouched; `output` must be a different file.
 void add_result_group(const std::filesystem::path& input,
                       const std::filesystem::path& output,
                       const ResultGroup& group,
