@@ -62,12 +62,15 @@ nlohmann::ordered_json slab_json(const wvr::NightSlabThickness& night_fit) {
   if (!f.ok()) return j;
   j["constraint"] = wvr::to_string(f.constraint);
   j["thickness_m"] = json_number(f.thickness_m);
+  // The stated 1-sigma interval: the wider, on each side, of the night's own sample variance
+  // (jackknife over time segments) and the points' scatter about the model (profile), both
+  // also given alone.
   j["thickness_low_m"] = json_number(f.thickness_low_m);
   j["thickness_high_m"] = json_number(f.thickness_high_m);
-  // The interval above only reflects the points' scatter; this one the night's own sample
-  // variance (jackknife over time segments), still a lower bound on the real error.
   j["thickness_jackknife_low_m"] = json_number(night_fit.jackknife_low_m);
   j["thickness_jackknife_high_m"] = json_number(night_fit.jackknife_high_m);
+  j["thickness_profile_low_m"] = json_number(night_fit.profile_low_m);
+  j["thickness_profile_high_m"] = json_number(night_fit.profile_high_m);
   j["path_m2_at_thickness"] = json_number(f.path_m2_at_thickness);
   // null: no saturation among the points (the fit kept no outer scale).
   j["outer_scale_m"] = json_number(f.outer_scale_m);

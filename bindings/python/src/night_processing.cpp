@@ -169,12 +169,15 @@ void export_structure_types(py::module_& m) {
           },
           py::arg("separation_m"))
       .def("brief_report", &SlabThicknessFit::brief_report);
-  py::class_<NightSlabThickness>(m, "NightSlabThickness",
-                                 "Slab fit of a night with a jackknife error over time segments.")
+  py::class_<NightSlabThickness>(
+      m, "NightSlabThickness",
+      "Slab fit of a night; its interval includes a jackknife over time segments.")
       .def_readonly("fit", &NightSlabThickness::fit)
       .def_readonly("log_thickness_sigma", &NightSlabThickness::log_thickness_sigma)
       .def_readonly("jackknife_low_m", &NightSlabThickness::jackknife_low_m)
       .def_readonly("jackknife_high_m", &NightSlabThickness::jackknife_high_m)
+      .def_readonly("profile_low_m", &NightSlabThickness::profile_low_m)
+      .def_readonly("profile_high_m", &NightSlabThickness::profile_high_m)
       .def_property_readonly("segment_thickness_m",
                              view_1d(&NightSlabThickness::segment_thickness_m))
       .def("brief_report", &NightSlabThickness::brief_report);

@@ -5,6 +5,8 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <cstdlib>
+#include <iomanip>
 #include <iostream>
 #include <limits>
 #include <numbers>
@@ -300,13 +302,226 @@ TEST(StructureFunctionNight, ThinLayerGivesTwoThirdsOnLongBaselines) {
   EXPECT_LE(f.slab.thickness_m, 45.0);
 }
 
-TEST(StructureFunctionNight, SlabFitFindsTheThickness) {
-  // W = 600 m: baselines 40 m - 2.5 km span the transition, neither regime is reached; the
-  // slab fit still places W. Six one-hour nights at 4 s.
-  const NightFit f = fit_night(600.0, {3000, 3001, 3002, 3003, 3004, 3005}, 4.0);
-  ASSERT_TRUE(f.slab.ok()) << f.slab.brief_report();
-  EXPECT_EQ(f.slab.constraint, ThicknessConstraint::kMeasured);
-  EXPECT_NEAR(f.slab.thickness_m / 600.0, 1.0, 0.25) << f.slab.brief_report();
+// One-hour nights of one layer (W given, 8.5 m/s) and their radiometer paths.
+struct LayerNights {
+  std::vector<Night> nights;
+  std::vector<AntennaPaths> paths;
+};
+LayerNights layer_nights(double thickness_m, std::uint64_t first_seed, int count) {
+  LayerNights out;
+  for (std::uint64_t seed = first_seed; seed < first_seed + static_cast<std::uint64_t>(count);
+       ++seed) {
+    const std::string text = layer_night(thickness_m, 8.0, 3.0, seed, 20, 3600.0, 4.0);
+    const Scenario scenario = parse_scenario(text, "test.toml", test::testdata(""));
+    out.nights.push_back(simulate_night(scenario));
+    out.paths.push_back(retrieved_paths(out.nights.back(), scenario));
+  }
+  return out;
+}
+
+// ln(W / truth) in units of the stated 1-sigma interval on its side (the interval is
+// asymmetric in W, symmetric in ln W for the jackknife part).
+double slab_pull(const SlabThicknessFit& f, double truth_m) {
+  const double error = std::log(f.thickness_m / truth_m);
+  return error / (error > 0.0 ? std::log(f.thickness_m / f.thickness_low_m)
+                              : std::log(f.thickness_high_m / f.thickness_m));
+}
+
+// The measured spread and pulls behind the tolerances below (run with
+// --gtest_also_run_disabled_tests; about 2 min). Seeds 3000-3023 at W = 600 m and 4000-4023 at
+// 300 m, one-hour nights; single nights with 12 segments, and four sets of six nights pooled
+// with 24 groups. Measured:
+//   600 m: single nights mean ln(W / W0) +0.20, sd 0.38, W 387-1838 m; pull rms 0.96 (largest
+//          2.0) against 17.6 with the points' interval alone and 3.35 with 4 segments (seeds
+//          3007 and 3016: sigma ln W 0.02 and 0.07, pulls -14.7 and -6.0); pooled sets W 722,
+//          646, 555, 725 m: mean +0.09, sd 0.11, pull rms 0.59 (points' interval alone: 14.2).
+//   300 m: single nights +0.04, sd 0.25, W 193-459 m; pull rms 0.97 (4 segments: 1.01; points'
+//          interval: infinite, one night's interval had zero width); pooled sets W 280, 372,
+//          273, 267 m: mean -0.02, sd 0.13, pull rms 0.79 (points' interval: 6.6; delete-a-night
+//          with 6 groups: 3.3, the six nights 4006-4011 agreed within 10 % by chance).
+TEST(StructureFunctionNight, DISABLED_SlabThicknessSpreadOverSeeds) {
+  for (const auto& [w, first_seed] : {std::pair{600.0, 3000}, std::pair{300.0, 4000}}) {
+    double sum = 0.0, sum2 = 0.0, pull2 = 0.0, pool_sum = 0.0, pool_sum2 = 0.0, pool_pull2 = 0.0;
+    int measured = 0, pools = 0;
+    for (int set = 0; set < 4; ++set) {
+      const LayerNights sky = layer_nights(w, static_cast<std::uint64_t>(first_seed + 6 * set), 6);
+      for (std::size_t i = 0; i < sky.nights.size(); ++i) {
+        const NightSlabThickness one = night_slab_thickness(sky.nights[i], sky.paths[i], {}, 6.0);
+        std::cout << "W = " << w << " m, seed " << first_seed + 6 * set + static_cast<int>(i)
+                  << ": " << one.brief_report() << "\n";
+        if (one.fit.constraint != ThicknessConstraint::kMeasured) continue;
+        const double e = std::log(one.fit.thickness_m / w), p = slab_pull(one.fit, w);
+        sum += e;
+        sum2 += e * e;
+        pull2 += p * p;
+        ++measured;
+        std::cout << "   ln(W / W0) " << e << ", pull " << p << "\n";
+      }
+      const NightSlabThickness pooled = pooled_slab_thickness(sky.nights, sky.paths, {}, 6.0, 24);
+      const double e = std::log(pooled.fit.thickness_m / w), p = slab_pull(pooled.fit, w);
+      pool_sum += e;
+      pool_sum2 += e * e;
+      pool_pull2 += p * p;
+      ++pools;
+      std::cout << "W = " << w << " m, six nights pooled: " << pooled.brief_report()
+                << "\n   ln(W / W0) " << e << ", pull " << p << "\n";
+    }
+    const double n = measured, m = pools;
+    std::cout << "W = " << w << " m: " << measured << " single nights measured, mean ln(W / W0) "
+              << sum / n << ", sd " << std::sqrt(sum2 / n - sum * sum / (n * n)) << ", pull rms "
+              << std::sqrt(pull2 / n) << "; pooled: mean " << pool_sum / m << ", sd "
+              << std::sqrt(std::max(0.0, pool_sum2 / m - pool_sum * pool_sum / (m * m)))
+              << ", pull rms " << std::sqrt(pool_pull2 / m) << "\n";
+  }
+}
+
+// Where the bias of W comes from (run with --gtest_also_run_disabled_tests; about 3 min).
+// Twelve one-hour nights of a 600 m layer (seeds 3000-3011); per bin, the binned D of the TRUE
+// wet paths over the LayerSpectrum theory (times the mean airmass squared), averaged over the
+// nights, and the ratio expected from removing each baseline's mean over the night alone
+// (the variance of that mean from the theory D of the difference series along the flow).
+// Measured (40 m .. 2.45 km, 12 bins):
+//   observed 0.967 0.989 0.982 0.977 0.970 0.976 0.971 0.987 0.968 0.959 0.924 0.843
+//   expected 0.992 0.992 0.989 0.987 0.985 0.981 0.972 0.974 0.958 0.943 0.930 0.898
+// so the shortfall at the long baselines is the finite night (the last bin's mean carries
+// +/- 0.06 of sample variance), not the screen: the screen follows the theory to 1-3 %. Fits
+// (retrieved paths and true paths agree to 1 % per night, so neither the retrieval nor the
+// radiometer noise matters here): the theory at the bins gives 600.3 m, the theory times the
+// observed ratio 675 m, the theory times the expected ratio about 650 m (printed below); the
+// twelve nights pooled 672 m (retrieved) and 675 m (true paths).
+TEST(StructureFunctionNight, DISABLED_SlabBiasFromTheNightsLength) {
+  const double w = 600.0;
+  const LayerSpectrum spectrum(TurbulentLayer{600.0, w, 200000.0, 8.0, 3.0, 500e-6, 1000.0});
+  const LayerNights sky = layer_nights(w, 3000, 12);
+  SpatialStructureResult pooled_truth;
+  std::vector<double> bins, ratio;
+  for (std::size_t n = 0; n < sky.nights.size(); ++n) {
+    const Night& night = sky.nights[n];
+    AntennaPaths truth = sky.paths[n];
+    for (std::size_t i = 0; i < truth.path_mm.size(); ++i)
+      truth.path_mm[i] = night.truth->wet_path_m[i] * 1e3;
+    const SpatialStructureResult t = radiometer_structure_function(night, truth);
+    pooled_truth.baselines.insert(pooled_truth.baselines.end(), t.baselines.begin(),
+                                  t.baselines.end());
+    double airmass2 = 0.0;
+    for (double e : night.pointing.elevation_deg)
+      airmass2 += std::pow(std::sin(e * std::numbers::pi / 180.0), -2.0) /
+                  static_cast<double>(night.pointing.elevation_deg.size());
+    const StructureFunctionEstimate b = bin_structure_function(t, 6.0);
+    if (bins.empty()) {
+      bins = b.separation;
+      ratio.assign(bins.size(), 0.0);
+    }
+    ASSERT_EQ(b.separation.size(), bins.size());
+    for (std::size_t i = 0; i < bins.size(); ++i) {
+      ratio[i] += b.value_m2[i] / (spectrum.structure_function_m2(b.separation[i]) * airmass2) /
+                  static_cast<double>(sky.nights.size());
+    }
+    const StructureFunctionEstimate r =
+        bin_structure_function(radiometer_structure_function(night, sky.paths[n]), 6.0);
+    std::cout << "night " << n << ": W from true paths "
+              << fit_slab_thickness(b.separation, b.value_m2).thickness_m << " m, retrieved "
+              << fit_slab_thickness(r.separation, r.value_m2).thickness_m << " m\n";
+  }
+  // Expected ratio: D - Var(mean of L_b - L_a over the night), with frozen flow at 4 s steps:
+  // Var(mean) = sum_k (N - |k|) C(k) / N^2, C(k) = (D(s_k + d) + D(s_k - d)) / 2 - D(s_k).
+  const auto& position = sky.nights[0].array.position_enu_m;
+  const int samples = static_cast<int>(sky.paths[0].time_s.size());
+  const auto d_of = [&](double x, double y) {
+    const double r = std::hypot(x, y);
+    return r > 0.0 ? spectrum.structure_function_m2(r) : 0.0;
+  };
+  std::vector<double> expected(bins.size(), 0.0), in_bin(bins.size(), 0.0);
+  for (std::size_t a = 0; a < position.size(); ++a) {
+    for (std::size_t b = a + 1; b < position.size(); ++b) {
+      const double dx = position[b][0] - position[a][0], dy = position[b][1] - position[a][1];
+      double var_mean = 0.0;
+      for (int k = 1 - samples; k < samples; ++k) {
+        const double sx = 8.0 * 4.0 * k, sy = 3.0 * 4.0 * k;
+        var_mean += (samples - std::abs(k)) *
+                    (0.5 * (d_of(sx + dx, sy + dy) + d_of(sx - dx, sy - dy)) - d_of(sx, sy));
+      }
+      var_mean /= static_cast<double>(samples) * samples;
+      const double d = std::hypot(dx, dy);
+      std::size_t nearest = 0;
+      for (std::size_t i = 0; i < bins.size(); ++i)
+        if (std::abs(std::log(d / bins[i])) < std::abs(std::log(d / bins[nearest]))) nearest = i;
+      expected[nearest] += 1.0 - var_mean / d_of(dx, dy);
+      in_bin[nearest] += 1.0;
+    }
+  }
+  std::vector<double> theory, times_observed, times_expected;
+  std::cout << "bin (m), observed / theory, expected from the night's mean:\n";
+  for (std::size_t i = 0; i < bins.size(); ++i) {
+    expected[i] /= in_bin[i];
+    theory.push_back(spectrum.structure_function_m2(bins[i]));
+    times_observed.push_back(theory.back() * ratio[i]);
+    times_expected.push_back(theory.back() * expected[i]);
+    std::cout << "   " << bins[i] << " " << ratio[i] << " " << expected[i] << "\n";
+  }
+  const StructureFunctionEstimate pooled = bin_structure_function(pooled_truth, 6.0);
+  std::cout << "theory at the bins: " << fit_slab_thickness(bins, theory).brief_report()
+            << "\ntheory x observed ratio: "
+            << fit_slab_thickness(bins, times_observed).brief_report()
+            << "\ntheory x expected ratio: "
+            << fit_slab_thickness(bins, times_expected).brief_report()
+            << "\ntwelve nights pooled (true paths): "
+            << fit_slab_thickness(pooled.separation, pooled.value_m2).brief_report() << "\n";
+}
+
+TEST(StructureFunctionNight, SlabFitFindsTheThicknessWithinItsStatedInterval) {
+  // Baselines 40 m - 2.5 km span the transition of W = 600 m and 300 m (neither regime is
+  // reached). Six one-hour nights of each, pooled, and each night alone. Tolerances from the
+  // spread measured in DISABLED_SlabThicknessSpreadOverSeeds.
+  std::vector<double> single_pulls;
+  for (const auto& [w, first_seed] : {std::pair{600.0, 3000}, std::pair{300.0, 4000}}) {
+    const LayerNights sky = layer_nights(w, static_cast<std::uint64_t>(first_seed), 6);
+    const NightSlabThickness pooled = pooled_slab_thickness(sky.nights, sky.paths, {}, 6.0, 24);
+    std::cout << "W = " << w << " m, six nights pooled: " << pooled.brief_report() << "\n";
+    ASSERT_TRUE(pooled.fit.ok()) << pooled.brief_report();
+    ASSERT_EQ(pooled.fit.constraint, ThicknessConstraint::kMeasured) << pooled.brief_report();
+    // (a) Pooled sets scatter by sd 0.11-0.13 in ln W about a bias of +0.09 (600 m) and -0.02
+    // (300 m): allowed 2.5 sd = 0.3 (measured here +0.18 and -0.07; a W 20 % high fails).
+    EXPECT_LT(std::abs(std::log(pooled.fit.thickness_m / w)), 0.3) << pooled.brief_report();
+    // (b) The truth within the stated interval: pooled pulls had rms 0.59-0.79, largest 1.1
+    // (measured here 0.63 and -0.59); the points' interval alone gave 21.6 and -2.1.
+    EXPECT_LT(std::abs(slab_pull(pooled.fit, w)), 2.5) << pooled.brief_report();
+    // The stated interval is the wider of the jackknife and the profile on each side.
+    EXPECT_NEAR(pooled.fit.thickness_low_m, std::min(pooled.profile_low_m, pooled.jackknife_low_m),
+                1e-9 * w);
+    EXPECT_NEAR(pooled.fit.thickness_high_m,
+                std::max(pooled.profile_high_m, pooled.jackknife_high_m), 1e-9 * w);
+    EXPECT_EQ(pooled.segment_thickness_m.size() + pooled.segments_dropped, 24u);
+    for (std::size_t i = 0; i < sky.nights.size(); ++i) {
+      const NightSlabThickness one = night_slab_thickness(sky.nights[i], sky.paths[i], {}, 6.0);
+      if (one.fit.constraint != ThicknessConstraint::kMeasured) continue;
+      single_pulls.push_back(slab_pull(one.fit, w));
+      std::cout << "   night " << i << ": " << one.brief_report() << ", pull "
+                << single_pulls.back() << "\n";
+    }
+  }
+  // Two nights on which a jackknife over quarters collapsed (sigma ln W 0.02 and 0.07 while
+  // 0.38 and 0.44 off the truth): with 12 segments their pulls were -1.7 and -2.0.
+  const LayerNights hard_600 = layer_nights(600.0, 3007, 1);
+  const LayerNights hard_600b = layer_nights(600.0, 3016, 1);
+  for (const LayerNights* sky : {&hard_600, &hard_600b}) {
+    const NightSlabThickness one = night_slab_thickness(sky->nights[0], sky->paths[0], {}, 6.0);
+    ASSERT_EQ(one.fit.constraint, ThicknessConstraint::kMeasured) << one.brief_report();
+    single_pulls.push_back(slab_pull(one.fit, 600.0));
+    std::cout << "   hard night: " << one.brief_report() << ", pull " << single_pulls.back()
+              << "\n";
+  }
+  // Single nights: over 48 seeds the pulls had rms 0.96-0.97 and none beyond 2.0 (measured
+  // here rms 1.0 over 14); allowed rms 1.5 and 3 for any night.
+  ASSERT_GE(single_pulls.size(), 12u);
+  double pull2 = 0.0;
+  for (double p : single_pulls) {
+    EXPECT_LT(std::abs(p), 3.0);
+    pull2 += p * p;
+  }
+  const double pull_rms = std::sqrt(pull2 / static_cast<double>(single_pulls.size()));
+  std::cout << "single-night pull rms " << pull_rms << " over " << single_pulls.size() << "\n";
+  EXPECT_LT(pull_rms, 1.5);
 }
 
 TEST(StructureFunctionNight, RadiometerNoiseFloorIsSubtracted) {
@@ -600,7 +815,7 @@ TEST(StructureFunctionNight, CalibratorStructureIsInPathUnitsAndCappedByTheScan)
 }
 
 TEST(StructureFunctionNight, JackknifeGivesTheNightsOwnSpread) {
-  // One hour over a 600 m layer: W is measured, and the refits without each quarter of the
+  // One hour over a 600 m layer: W is measured, and the refits without each twelfth of the
   // night scatter about it.
   const std::string text = layer_night(600.0, 8.0, 3.0, 3000, 20, 3600.0, 4.0);
   const Scenario scenario = parse_scenario(text, "test.toml", test::testdata(""));
@@ -609,7 +824,7 @@ TEST(StructureFunctionNight, JackknifeGivesTheNightsOwnSpread) {
   const NightSlabThickness slab = night_slab_thickness(night, paths);
   std::cout << slab.brief_report() << "\n";
   ASSERT_EQ(slab.fit.constraint, ThicknessConstraint::kMeasured) << slab.brief_report();
-  ASSERT_EQ(slab.segment_thickness_m.size() + slab.segments_dropped, 4u);
+  ASSERT_EQ(slab.segment_thickness_m.size() + slab.segments_dropped, 12u);
   ASSERT_GE(slab.segment_thickness_m.size(), 2u);
   ASSERT_TRUE(std::isfinite(slab.log_thickness_sigma)) << slab.brief_report();
   EXPECT_GT(slab.log_thickness_sigma, 0.0);
@@ -621,10 +836,30 @@ TEST(StructureFunctionNight, JackknifeGivesTheNightsOwnSpread) {
   EXPECT_NEAR(slab.log_thickness_sigma, std::sqrt(spread * (k - 1.0) / k), 1e-12);
   EXPECT_NEAR(slab.jackknife_high_m / slab.fit.thickness_m, std::exp(slab.log_thickness_sigma),
               1e-9);
-  // The night's own error is wider than the scatter of its points about the model.
-  EXPECT_GT(slab.jackknife_high_m - slab.jackknife_low_m,
-            slab.fit.thickness_high_m - slab.fit.thickness_low_m);
+  // The night's own error is wider than the scatter of its points about the model, and the
+  // stated interval is the wider of the two.
+  EXPECT_GT(slab.jackknife_high_m - slab.jackknife_low_m, slab.profile_high_m - slab.profile_low_m);
+  EXPECT_NEAR(slab.fit.thickness_low_m, std::min(slab.jackknife_low_m, slab.profile_low_m), 1e-9);
+  EXPECT_NEAR(slab.fit.thickness_high_m, std::max(slab.jackknife_high_m, slab.profile_high_m),
+              1e-9);
   EXPECT_THROW(night_slab_thickness(night, paths, {}, 5.0, 1), InvalidInput);
+  EXPECT_THROW(night_slab_thickness(night, paths, {}, 5.0, 101), InvalidInput);
+  // Pooled nights: bad group counts, no nights, or a paths list of another length.
+  const std::vector<Night> two_nights = {night, night};
+  const std::vector<AntennaPaths> one_paths = {paths};
+  EXPECT_THROW(pooled_slab_thickness(two_nights, one_paths), InvalidInput);
+  EXPECT_THROW(pooled_slab_thickness({}, {}), InvalidInput);
+  EXPECT_THROW(
+      pooled_slab_thickness(two_nights, std::vector<AntennaPaths>{paths, paths}, {}, 5.0, 1),
+      InvalidInput);
+  // One night pooled with itself: the same points twice, so the same fit; each of its two
+  // groups is one copy, whose removal leaves the other, so both refits equal the full fit.
+  const NightSlabThickness twice =
+      pooled_slab_thickness(two_nights, std::vector<AntennaPaths>{paths, paths}, {}, 5.0, 2);
+  EXPECT_NEAR(twice.fit.thickness_m, slab.fit.thickness_m, 1e-6 * slab.fit.thickness_m);
+  ASSERT_EQ(twice.segment_thickness_m.size(), 2u);
+  EXPECT_NEAR(twice.segment_thickness_m[0], slab.fit.thickness_m, 1e-6 * slab.fit.thickness_m);
+  EXPECT_NEAR(twice.log_thickness_sigma, 0.0, 1e-9);
   // A limit has no jackknife; nothing at all neither.
   AntennaPaths short_paths;
   const Night short_night = wind_night(8.0, 3.0, 33, &short_paths);

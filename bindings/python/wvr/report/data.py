@@ -299,6 +299,8 @@ def _slab_section(slab):
         "thickness_high_m": _number(fit.thickness_high_m),
         "jackknife_low_m": _number(slab.jackknife_low_m),
         "jackknife_high_m": _number(slab.jackknife_high_m),
+        "profile_low_m": _number(slab.profile_low_m),
+        "profile_high_m": _number(slab.profile_high_m),
         "outer_scale_m": _number(fit.outer_scale_m),
         "path_m2_at_thickness": _number(fit.path_m2_at_thickness),
         "thin": _regime_section(fit.thin),
