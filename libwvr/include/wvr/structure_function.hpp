@@ -37,10 +37,9 @@
 // 2b. The slab model itself, D = D(W) g(d / W), fitted for the equivalent layer thickness W
 //    (fit_slab_thickness): one shape parameter instead of three, so it is far steadier. A
 //    night's W still carries the sample variance of its screen (600 m layer, one-hour nights:
-//    sd 0.38 in ln W; six pooled: 0.11) and a bias from the night's finite length (+0.09 in
-//    ln W pooled), so night_slab_thickness / pooled_slab_thickness state an interval from a
-//    jackknife over time groups (wvr/structure_fits.hpp). Its W is the "break length" the
-//    diagnosis reports; slopes are measured in each regime relative to it.
+//    sd 0.38 in ln W; six pooled: 0.11), so night_slab_thickness / pooled_slab_thickness
+//    state an interval from a jackknife over time groups (wvr/structure_fits.hpp). Its W is the
+//    "break length" the diagnosis reports; slopes are measured in each regime relative to it.
 // 3. Temporal structure function per antenna or per baseline path series vs lag (through
 //    wvr::temporal_structure_function).
 // 4. Wind under frozen flow: the lag tau_ab maximising the cross-correlation of two
