@@ -3,7 +3,7 @@
 set -euo pipefail
 packages=(
   build-essential cmake pkg-config clang-format
-  libeigen3-dev libceres-dev libhdf5-dev libtomlplusplus-dev libcli11-dev nlohmann-json3-dev
+  libeigen3-dev libceres-dev libhdf5-dev zlib1g-dev libtomlplusplus-dev libcli11-dev nlohmann-json3-dev
   libgtest-dev libbenchmark-dev
   pybind11-dev python3-dev python3-numpy python3-pytest python3-h5py python3-matplotlib
   python3-distributed python3-tqdm python3-venv python3-setuptools python3-wheel python3-pip

@@ -114,7 +114,7 @@ def write_ms(night_path, ms, *, clock_offset_s=0.0, pointing="azel", weather=Tru
     science_channel_offsets_ghz places each science window's channels at its frequency plus
     these offsets (visibilities equal in every channel); float_data True writes every row's
     real part to FLOAT_DATA (no DATA column), "radiometer" the radiometer rows to FLOAT_DATA
-    and the others to DATA; duration_s keeps only the main-table rows of the night's first
+    and the others to DATA, "science" the other way round; duration_s keeps only the main-table rows of the night's first
     duration_s seconds."""
     n = read_night(night_path)
     na, nt = len(n["names"]), len(n["time_s"])
@@ -220,7 +220,7 @@ def write_ms(night_path, ms, *, clock_offset_s=0.0, pointing="azel", weather=Tru
     main = ct.table(ms, readonly=False, ack=False)
     if float_data:
         main.addcols(ct.maketabdesc(ct.makearrcoldesc("FLOAT_DATA", 0.0, ndim=2, valuetype="float")))
-    if float_data != True:  # noqa: E712  (False or "radiometer")
+    if float_data is not True:  # False, "radiometer" or "science": DATA too
         main.addcols(ct.maketabdesc(ct.makearrcoldesc("DATA", 0j, ndim=2, valuetype="complex")))
     main.addrows(len(rows))
     field_index = {s: i for i, s in enumerate(sources)}
@@ -237,7 +237,9 @@ def write_ms(night_path, ms, *, clock_offset_s=0.0, pointing="azel", weather=Tru
                                      dtype=np.int32))
     main.putcol("FLAG_ROW", np.array([r[6] for r in rows]))
     def data_column(row):
-        in_float = float_data is True or (float_data == "radiometer" and row[3] == radiometer_dd)
+        radiometer_row = row[3] == radiometer_dd
+        in_float = (float_data is True or (float_data == "radiometer" and radiometer_row)
+                    or (float_data == "science" and not radiometer_row))
         return "FLOAT_DATA" if in_float else "DATA"
 
     start = 0

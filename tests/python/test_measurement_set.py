@@ -252,8 +252,16 @@ def test_float_data_holds_brightness_but_no_phases(work, night_file):
     np.testing.assert_allclose(night.brightness_k[valid], truth.brightness_k[valid], atol=5e-5)
     assert night.calibrator_phases["time_s"].size == 0
     calibrator_rows = truth.calibrator_phases["time_s"].size
-    assert f"{calibrator_rows} calibrator cross-correlation rows in a main table without DATA" \
-        in " ".join(report["notes"])
+    note = f"{calibrator_rows} calibrator cross-correlation rows without a DATA cell"
+    assert note in " ".join(report["notes"])
+    # Both columns, the other way round: radiometer rows in DATA (their FLOAT_DATA cells
+    # undefined), calibrator rows in FLOAT_DATA (their DATA cells undefined).
+    swapped = work / "float-science.ms"
+    ms_writer.write_ms(night_file, str(swapped), float_data="science")
+    night, report = import_ms(swapped)
+    np.testing.assert_allclose(night.brightness_k[valid], truth.brightness_k[valid], atol=5e-5)
+    assert night.calibrator_phases["time_s"].size == 0
+    assert note in " ".join(report["notes"])
 
 
 def test_several_windows_and_fields(work, night_file):

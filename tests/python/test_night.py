@@ -185,6 +185,15 @@ def test_write_then_read_is_bit_for_bit(tmp_path, small_night, compression_level
     assert_nights_identical(wvr.read_night(str(path)), small_night)
 
 
+def test_write_threads_do_not_change_the_file(tmp_path, small_night):
+    for threads in (1, 3):
+        wvr.write_night(small_night, tmp_path / f"night-{threads}.h5", threads=threads)
+    assert (tmp_path / "night-1.h5").read_bytes() == (tmp_path / "night-3.h5").read_bytes()
+    with pytest.raises(wvr.WvrValueError, match="threads = -1"):
+        wvr.write_night(small_night, tmp_path / "bad.h5", threads=-1)
+    assert not (tmp_path / "bad.h5").exists()
+
+
 @pytest.mark.usefixtures("skyphase")
 def test_night_written_by_skyphase_equals_the_python_simulation(tmp_path, testdata, demo_scenario):
     # The demo scenario shortened to 5 antennas x 300 s, without its faults (they are on

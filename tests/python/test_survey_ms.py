@@ -117,6 +117,41 @@ def test_content_hash_follows_the_data_not_the_lock_file(archive, tmp_path):
     assert wvr.survey.content_sha256(copy) != original
 
 
+def test_symlinked_subtables_are_hashed_through_the_link(archive, tmp_path):
+    # A subtable kept elsewhere and linked in hashes as the same MS; a change behind the link
+    # is seen.
+    copy = tmp_path / "linked.ms"
+    shutil.copytree(archive / "night-301.ms", copy)
+    elsewhere = tmp_path / "elsewhere-ANTENNA"
+    shutil.move(copy / "ANTENNA", elsewhere)
+    (copy / "ANTENNA").symlink_to(elsewhere, target_is_directory=True)
+    original = wvr.survey.content_sha256(archive / "night-301.ms")
+    assert wvr.survey.content_sha256(copy) == original
+    data_file = sorted(elsewhere.glob("table.f*"))[0]
+    data = bytearray(data_file.read_bytes())
+    data[len(data) // 2] ^= 0x01
+    data_file.write_bytes(bytes(data))
+    assert wvr.survey.content_sha256(copy) != original
+
+
+def test_recursive_patterns_take_measurement_sets_whole(archive):
+    found = wvr.survey.resolve_nights([str(archive / "**")])
+    assert [p.name for p in found] == ["night-301.ms", "night-302.ms", "night-303.h5"]
+    part = archive / "night-301.ms" / "table.dat"
+    with pytest.raises(wvr.survey.SurveyInputError, match="is a part of the MeasurementSet"):
+        wvr.survey.resolve_nights([str(part)])
+
+
+def test_adding_measurement_set_options_keeps_night_files_done(archive, tmp_path):
+    catalogue = tmp_path / "mixed.sqlite"
+    first = wvr.survey.survey([str(archive / "night-303.h5")], catalogue,
+                              options={"window_s": 120.0}, workers=1, progress=False)
+    assert (first.processed, first.ok) == (1, 1), first.text()
+    second = wvr.survey.survey([str(archive / "*.h5"), str(archive / "night-301.ms")], catalogue,
+                               options=OPTIONS, workers=1, progress=False)
+    assert (second.skipped, second.processed, second.ok) == (1, 1, 1), second.text()
+
+
 def test_measurement_set_without_brightness_option_fails_by_name(archive, tmp_path):
     # A survey refuses before any work (and writes no catalogue)...
     catalogue = tmp_path / "c.sqlite"
@@ -124,6 +159,10 @@ def test_measurement_set_without_brightness_option_fails_by_name(archive, tmp_pa
                                                             "the option ms_brightness"):
         wvr.survey.survey([str(archive / "*")], catalogue, options={"window_s": 120.0},
                           progress=False)
+    assert not catalogue.exists()
+    with pytest.raises(wvr.survey.SurveyInputError, match=r"\(given: 'rayleigh_jeans'\)"):
+        wvr.survey.survey([str(archive / "*.ms")], catalogue,
+                          options={"ms_brightness": "rayleigh_jeans"}, progress=False)
     assert not catalogue.exists()
     # ...and a single night's task records it as the night's error.
     row = wvr.survey.process_one(archive / "night-301.ms", {"window_s": 120.0})

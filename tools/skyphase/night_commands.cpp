@@ -31,6 +31,7 @@ void run_simulate(const SimulateOptions& o) {
   const auto write_start = std::chrono::steady_clock::now();
   wvr::NightWriteOptions write_options;
   write_options.overwrite_output = o.overwrite;
+  write_options.threads = o.threads;
   wvr::write_night(night, o.output_file, write_options);
   const auto end = std::chrono::steady_clock::now();
   const double write_s = std::chrono::duration<double>(end - write_start).count();

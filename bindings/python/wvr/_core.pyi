@@ -547,7 +547,12 @@ class Night:
 
 def read_night(path: PathLike) -> Night: ...
 def write_night(
-    night: Night, path: PathLike, *, overwrite: bool = False, compression_level: int = 4
+    night: Night,
+    path: PathLike,
+    *,
+    overwrite: bool = False,
+    compression_level: int = 4,
+    threads: int = 0,
 ) -> None: ...
 @overload
 def add_result_group(
@@ -558,6 +563,7 @@ def add_result_group(
     overwrite: bool = False,
     replace: bool = False,
     compression_level: int = 4,
+    threads: int = 0,
 ) -> None: ...
 @overload
 def add_result_group(
@@ -570,6 +576,7 @@ def add_result_group(
     overwrite: bool = False,
     replace: bool = False,
     compression_level: int = 4,
+    threads: int = 0,
 ) -> None: ...
 
 class GapDict(TypedDict):

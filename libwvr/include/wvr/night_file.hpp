@@ -24,15 +24,29 @@ inline constexpr const char* kNightSchemaName = "libwvr-night";
 inline constexpr int kNightSchemaVersion = 2;
 inline constexpr int kOldestReadableNightSchemaVersion = 1;
 
-// A night file's identity on disk: equal stamps taken at two moments mean, as far as the
-// file system can tell, the same unchanged file (the modification time has nanoseconds).
-struct NightFileStamp {
-  std::uint64_t device = 0, inode = 0, size_bytes = 0;
-  std::int64_t modified_ns = 0;
+// A night file's identity on disk when read_night(path, stamp) read and validated it: its
+// device, inode, size and modification and status-change times. Only the library makes one
+// (read_night below), so a stamp a caller holds stands for a file that was validated. The times
+// come at the file system's timer granularity; the status-change time cannot be set back by
+// programs (touch -r, cp -p).
+class NightFileStamp;
+namespace detail {
+// The current stamp of the file at `path` (the library's own; InvalidInput naming the path when
+// it cannot be looked at).
+NightFileStamp current_stamp(const std::filesystem::path& path);
+}  // namespace detail
+
+class NightFileStamp {
+ public:
+  NightFileStamp() = default;  // stands for no file: equals no file's stamp
   bool operator==(const NightFileStamp&) const = default;
+
+ private:
+  friend NightFileStamp detail::current_stamp(const std::filesystem::path& path);
+  bool valid_ = false;
+  std::uint64_t device_ = 0, inode_ = 0, size_bytes_ = 0;
+  std::int64_t modified_ns_ = 0, changed_ns_ = 0;
 };
-// Throws InvalidInput naming the path when it cannot be looked at.
-NightFileStamp night_file_stamp(const std::filesystem::path& path);
 
 struct NightWriteOptions {
   // Replace an existing file at the output path (never allowed when it is the input).
@@ -40,16 +54,17 @@ struct NightWriteOptions {
   // add_result_group: replace a result group of the same stage instead of failing.
   bool replace_existing_results = false;
   // gzip level (1-9, after byte shuffle) of the chunked datasets written; 0 stores them
-  // uncompressed: about 20x faster to write, files 1.3-1.6x larger (measured on demo
-  // nights with 0.1 K brightness noise).
+  // uncompressed: 3-4x faster to write, files about 2x larger (measured on a 16-antenna,
+  // 2-hour demo night).
   int compression_level = 4;
   // Threads compressing the chunks of each dataset (0 = all cores); the file's bytes do not
   // depend on it.
   int threads = 0;
-  // add_result_groups: the stamp the input had when it was read (and so validated) by the
-  // caller. While the input's stamp is unchanged it is not read and validated again (for a
-  // large night that second read is a fifth of the write); a changed input is.
-  std::optional<NightFileStamp> input_read_with;
+  // add_result_groups: the stamp the input had when the caller read (and so validated) it and
+  // computed the results from it. The input is then not read and validated again (for a large
+  // night that second read is a fifth of the write and a second copy of the night in memory);
+  // an input that changed since is refused: the results would belong to another file.
+  std::optional<NightFileStamp> input_read_with = std::nullopt;
 };
 
 // Reads and validates a night file, including every result group. Throws InvalidInput

@@ -264,8 +264,8 @@ MsImport import_unchecked(const std::filesystem::path& ms, const MsImportOptions
   }
   if (main.calibrator_rows_without_data > 0) {
     notes.push_back(std::to_string(main.calibrator_rows_without_data) +
-                    " calibrator cross-correlation rows in a main table without DATA "
-                    "(FLOAT_DATA holds no phase): no calibrator phases");
+                    " calibrator cross-correlation rows without a DATA cell (FLOAT_DATA "
+                    "holds no phase): no calibrator phases from them");
   }
   if (std::none_of(night.scans.begin(), night.scans.end(),
                    [](const Scan& s) { return s.intent == ScanIntent::kCalibrator; })) {

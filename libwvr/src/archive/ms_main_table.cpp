@@ -141,7 +141,7 @@ MainTableContents read_main_table(const std::filesystem::path& ms,
           if (sr.intent == StateIntent::kOther) sr.intent = intent;
         }
         if (intent != StateIntent::kCalibrator) continue;
-        if (!has_data) {
+        if (!has_data || !data.isDefined(row)) {
           ++out.calibrator_rows_without_data;
           continue;
         }

@@ -43,8 +43,8 @@ struct MainTableContents {
   std::size_t rows = 0;
   std::size_t flagged_radiometer_samples = 0;
   std::size_t flagged_calibrator_rows = 0;
-  // Calibrator cross-correlation rows of a main table without DATA: FLOAT_DATA holds real
-  // values only, so they give no phase.
+  // Calibrator cross-correlation rows without a DATA cell (the column missing, or the row's
+  // values in FLOAT_DATA): real values only, so they give no phase.
   std::size_t calibrator_rows_without_data = 0;
 };
 

@@ -3,10 +3,13 @@
 #include <zlib.h>
 
 #include <algorithm>
+#include <cmath>
 
 #include "wvr/error.hpp"
 
 namespace wvr::detail::h5 {
+
+std::atomic<std::size_t> filtered_chunks_written{0};
 
 std::uint32_t hdf5_fletcher32(const std::uint8_t* data, std::size_t bytes) {
   std::uint32_t sum1 = 0, sum2 = 0;
@@ -67,8 +70,9 @@ FilteredChunk filter_chunk(const std::uint8_t* chunk,
                            int gzip_level) {
   FilteredChunk out;
   std::vector<std::uint8_t> input = shuffled(chunk, bytes, element_size);
-  // HDF5's deflate budget: H5Z_DEFLATE_SIZE_ADJUST(s) = ceil(s * 1.001) + 12.
-  uLongf compressed_bytes = static_cast<uLongf>((bytes * 1001 + 999) / 1000 + 12);
+  // HDF5's deflate budget: H5Z_DEFLATE_SIZE_ADJUST(s) = ceil(s * (double)1.001F) + 12.
+  uLongf compressed_bytes = static_cast<uLongf>(
+      std::ceil(static_cast<double>(bytes) * static_cast<double>(1.001F)) + 12.0);
   out.bytes.resize(compressed_bytes + 4);
   const int status = compress2(out.bytes.data(), &compressed_bytes, input.data(),
                                static_cast<uLong>(bytes), gzip_level);

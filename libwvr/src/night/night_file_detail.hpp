@@ -1,6 +1,8 @@
 #pragma once
 // Helpers shared by the night file sources (validation, reading, writing, summary).
 
+#include <atomic>
+#include <cstddef>
 #include <optional>
 #include <string>
 
@@ -28,5 +30,8 @@ std::optional<ScanIntent> parse_intent(const std::string& name);
 // Checks one result group on its own (names, shapes, units, attributes); `source` starts
 // the message.
 void validate_result_group(const ResultGroup& group, const std::string& source);
+
+// read_night calls in this process: tests check with it that a read was left out.
+extern std::atomic<std::size_t> night_file_reads;
 
 }  // namespace wvr::detail

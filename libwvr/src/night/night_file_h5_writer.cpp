@@ -315,9 +315,9 @@ bool Writer::write_filtered_chunks(const std::string& path,
     }
     return origin;
   };
-  // Batches bound the compressed bytes held at once.
+  // Batches bound the bytes held at once (about 64 MiB), whatever the core count.
   const std::size_t workers = worker_count(threads_, chunk_count);
-  const std::size_t batch = 32 * workers;
+  const std::size_t batch = std::max(workers, (std::size_t{64} << 20) / chunk_bytes);
   std::vector<FilteredChunk> filtered(std::min(batch, chunk_count));
   for (std::size_t first = 0; first < chunk_count; first += batch) {
     const std::size_t n = std::min(batch, chunk_count - first);
@@ -335,6 +335,7 @@ bool Writer::write_filtered_chunks(const std::string& path,
                          filtered[i].bytes.size(), filtered[i].bytes.data()) < 0) {
         fail(path, "chunk " + std::to_string(first + i) + " cannot be written");
       }
+      ++filtered_chunks_written;
     }
   }
   return true;

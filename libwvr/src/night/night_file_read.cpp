@@ -1,5 +1,6 @@
 // Reading night files (schema described in libwvr/FORMAT.md).
 
+#include <atomic>
 #include <cstring>
 #include <string>
 #include <vector>
@@ -290,7 +291,12 @@ void read_results(const Reader& reader, Night& night) {
 
 }  // namespace
 
+namespace detail {
+std::atomic<std::size_t> night_file_reads{0};
+}  // namespace detail
+
 Night read_night(const std::filesystem::path& path) {
+  ++detail::night_file_reads;
   const detail::h5::QuietErrors quiet;
   const Reader reader(path);
   Night night;
@@ -310,9 +316,9 @@ Night read_night(const std::filesystem::path& path) {
 }
 
 Night read_night(const std::filesystem::path& path, NightFileStamp& stamp) {
-  const NightFileStamp before = night_file_stamp(path);
+  const NightFileStamp before = detail::current_stamp(path);
   Night night = read_night(path);
-  if (night_file_stamp(path) != before) {
+  if (detail::current_stamp(path) != before) {
     throw InvalidInput(path.string() + ": changed while it was being read");
   }
   stamp = before;

@@ -424,11 +424,17 @@ void add_result_groups(const fs::path& input,
   const detail::h5::QuietErrors quiet;
   check_output(output, options, &input);
   // The whole input is validated (here, or by the caller who read it with the stamp it still
-  // has), so results are never added to a file readers would reject.
-  const bool read_by_caller =
-      options.input_read_with && *options.input_read_with == night_file_stamp(input);
+  // has), so results are never added to a file readers would reject; the stamp then guards the
+  // bytes copied below.
+  NightFileStamp validated;
   std::set<std::string> existing, added;
-  if (read_by_caller) {
+  if (options.input_read_with) {
+    validated = *options.input_read_with;
+    if (detail::current_stamp(input) != validated) {
+      throw InvalidInput(input.string() +
+                         ": changed since it was read (device, inode, size or times differ), "
+                         "so results computed from it would belong to another file");
+    }
     const detail::h5::Reader reader(input);
     if (reader.exists("/results")) {
       const Id results = reader.open_group("/results");
@@ -436,7 +442,8 @@ void add_result_groups(const fs::path& input,
         existing.insert(stage);
     }
   } else {
-    for (const ResultGroup& group : read_night(input).results) existing.insert(group.stage);
+    for (const ResultGroup& group : read_night(input, validated).results)
+      existing.insert(group.stage);
   }
   for (const ResultGroup& group : groups) {
     detail::validate_result_group(group, "result group for " + output.string());
@@ -453,8 +460,8 @@ void add_result_groups(const fs::path& input,
   PendingFile pending(output);
   {
     Writer writer(input, output.string(), options.compression_level, options.threads);
-    // The bytes copied above are the ones the caller validated only if the file is unchanged.
-    if (read_by_caller && night_file_stamp(input) != *options.input_read_with) {
+    // The bytes copied above are the ones validated only if the file is unchanged.
+    if (detail::current_stamp(input) != validated) {
       throw InvalidInput(input.string() + ": changed while results were being added to a copy");
     }
     ensure_results_group(writer);

@@ -18,6 +18,7 @@
 #include <string>
 #include <vector>
 
+#include "night/night_file_detail.hpp"
 #include "wvr/error.hpp"
 #include "wvr/night.hpp"
 
@@ -709,37 +710,50 @@ TEST_F(NightFileTest, AddResultGroupLeavesInputByteIdentical) {
   expect_same(expected, read_night(output2));
 }
 
-TEST_F(NightFileTest, InputReadWithAStampIsNotReadAgainUnlessItChanged) {
+TEST_F(NightFileTest, InputReadWithAStampIsNotReadAgainAndRefusedOnceChanged) {
   Night night = make_night(4, 300, 3);
   night.results.push_back(make_result_group("flags", 4, 300));
   const fs::path input = path("input.h5");
   write_night(night, input);
   NightFileStamp stamp;
   const Night read = read_night(input, stamp);
-  EXPECT_EQ(stamp, night_file_stamp(input));
+  EXPECT_EQ(stamp, detail::current_stamp(input));
   NightWriteOptions options;
   options.input_read_with = stamp;
   const ResultGroup group = make_result_group("retrieval", 4, 300);
+  const std::size_t reads_before = detail::night_file_reads;
   add_result_groups(input, path("out.h5"), {group}, options);
+  EXPECT_EQ(detail::night_file_reads, reads_before);  // not read again
   Night expected = night;
   expected.results.push_back(group);
   expect_same(expected, read_night(path("out.h5")));
+  // Without a stamp the input is read (validated) first.
+  add_result_groups(input, path("out-unstamped.h5"), {group});
+  EXPECT_EQ(detail::night_file_reads, reads_before + 2);
   // The stages the input already holds are known without reading it: a duplicate is refused.
   const std::string duplicate = invalid_input_message([&] {
     add_result_groups(input, path("dup.h5"), {make_result_group("flags", 4, 300)}, options);
   });
   EXPECT_NE(duplicate.find("/results/flags already exists"), std::string::npos) << duplicate;
+  // A stamp that no read made stands for no file.
+  NightWriteOptions unread;
+  unread.input_read_with = NightFileStamp{};
+  EXPECT_NE(invalid_input_message([&] {
+              add_result_groups(input, path("u.h5"), {group}, unread);
+            }).find("changed since it was read"),
+            std::string::npos);
 
-  // Replaced after it was read, by an HDF5 file that is no night: validated again and
-  // refused, not copied.
+  // Replaced after it was read, even by a valid night: refused, since the results were
+  // computed from the old one; nothing is written.
   fs::remove(input);
-  H5Fclose(H5Fcreate(input.c_str(), H5F_ACC_EXCL, H5P_DEFAULT, H5P_DEFAULT));
-  ASSERT_NE(night_file_stamp(input), stamp);
-  EXPECT_FALSE(invalid_input_message([&] {
-                 add_result_groups(input, path("out2.h5"), {group}, options);
-               }).empty());
+  write_night(make_night(4, 300, 3), input);
+  ASSERT_NE(detail::current_stamp(input), stamp);
+  const std::string changed =
+      invalid_input_message([&] { add_result_groups(input, path("out2.h5"), {group}, options); });
+  EXPECT_NE(changed.find(input.string() + ": changed since it was read"), std::string::npos)
+      << changed;
   EXPECT_FALSE(fs::exists(path("out2.h5")));
-  EXPECT_THROW(night_file_stamp(path("missing.h5")), InvalidInput);
+  EXPECT_THROW(detail::current_stamp(path("missing.h5")), InvalidInput);
 }
 
 TEST_F(NightFileTest, AddResultGroupRefusesInputAsOutputAndDuplicates) {

@@ -28,9 +28,11 @@ def survey(nights=(), catalogue="survey.sqlite", *, manifests=(), options=None,
            progress=True, on_night_done=None):
     """Runs the night pipeline over many nights and catalogues them; returns a SurveySummary.
 
-    nights: night files or glob patterns; manifests: text files listing more (one per line).
-    catalogue: the SQLite file (created if missing). options: wvr.process_night's options
-    (window_s, per_antenna_scale, obs_freq_ghz, ...) plus site_file and thresholds_file.
+    nights: night files, MeasurementSet directories or glob patterns; manifests: text files
+    listing more (one per line). catalogue: the SQLite file (created if missing). options:
+    wvr.process_night's options (window_s, per_antenna_scale, obs_freq_ghz, ...) plus
+    site_file and thresholds_file, and for MeasurementSets wvr.import_measurement_set's
+    arguments prefixed "ms_" (ms_brightness required; ms_radiometer_file for its radiometer).
     scheduler_address: an existing dask cluster's scheduler (e.g. "tcp://host:8786");
     None starts a local cluster of `workers` processes with `threads_per_worker` threads.
     Nights already catalogued with the same content and options are skipped (failed ones

@@ -20,9 +20,10 @@ def _parser():
     parser = argparse.ArgumentParser(prog="python3 -m wvr.survey", description=__doc__.split("\n\n")[0])
     commands = parser.add_subparsers(dest="command", required=True)
     run = commands.add_parser("run", help="process many nights on a dask cluster into a catalogue")
-    run.add_argument("nights", nargs="*", help="night files or glob patterns (quote them)")
+    run.add_argument("nights", nargs="*",
+                     help="night files, MeasurementSets or glob patterns (quote them)")
     run.add_argument("--manifest", action="append", default=[],
-                     help="text file listing night files, one per line (repeatable)")
+                     help="text file listing nights, one per line (repeatable)")
     run.add_argument("--catalogue", required=True, help="SQLite catalogue (created if missing)")
     run.add_argument("--scheduler", default=None,
                      help="address of an existing dask scheduler (default: a local cluster)")
@@ -30,7 +31,8 @@ def _parser():
     run.add_argument("--threads-per-worker", type=int, default=1,
                      help="local cluster: threads per worker (also the pipeline's threads)")
     run.add_argument("--options", default="{}",
-                     help='processing options as JSON, e.g. \'{"window_s": 120}\'')
+                     help='processing options as JSON, e.g. \'{"window_s": 120}\'; '
+                          'MeasurementSets need "ms_brightness"')
     run.add_argument("--retry-failed", action="store_true",
                      help="process again the nights catalogued as failed")
     run.add_argument("--no-progress", action="store_true", help="no progress bar")

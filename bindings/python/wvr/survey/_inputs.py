@@ -3,6 +3,7 @@ glob patterns and manifests, resolved to a sorted list of distinct absolute path
 import glob
 import hashlib
 import json
+import os
 import pathlib
 
 import wvr
@@ -33,6 +34,11 @@ def _is_night_input(path):
     return path.is_file() or is_measurement_set(path)
 
 
+def _enclosing_measurement_set(path):
+    """The MeasurementSet directory `path` lies inside, or None."""
+    return next((p for p in path.parents if is_measurement_set(p)), None)
+
+
 def read_manifest(path):
     """Paths in a manifest: one per line, '#' starts a comment, relative paths are relative to
     the manifest's folder; a line may be a glob pattern."""
@@ -60,7 +66,9 @@ def resolve_nights(nights=(), manifests=()):
     for entry in entries:
         if glob.has_magic(entry):
             matches = [pathlib.Path(m) for m in glob.glob(entry, recursive=True)]
-            matches = [m for m in matches if _is_night_input(m)]
+            # A recursive pattern also matches the files inside a MeasurementSet: its parts.
+            matches = [m for m in matches
+                       if _is_night_input(m) and _enclosing_measurement_set(m) is None]
             if not matches:
                 raise SurveyInputError(
                     f"nights: the pattern '{entry}' matches no file or MeasurementSet")
@@ -69,6 +77,10 @@ def resolve_nights(nights=(), manifests=()):
             path = pathlib.Path(entry)
             if not _is_night_input(path):
                 raise SurveyInputError(f"nights: '{entry}' is not a file or a MeasurementSet")
+            enclosing = _enclosing_measurement_set(path)
+            if enclosing is not None:
+                raise SurveyInputError(f"nights: '{entry}' is a part of the MeasurementSet "
+                                       f"{enclosing}, not a night")
             found.add(path.resolve())
     if not found:
         raise SurveyInputError("nights: none given (files, glob patterns or a manifest)")
@@ -81,19 +93,37 @@ def _hash_file(digest, path):
             digest.update(block)
 
 
+def _measurement_set_files(path):
+    """(relative name, path) of every file of a MeasurementSet, in sorted order, following
+    symbolic links (subtables may be links to other directories; each directory is walked
+    once), except casacore's table.lock files."""
+    files, seen = [], set()
+    for folder, directories, names in os.walk(path, followlinks=True):
+        real = os.path.realpath(folder)
+        if real in seen:  # a link cycle, or a subtable linked twice
+            directories[:] = []
+            continue
+        seen.add(real)
+        for name in names:
+            if name != "table.lock":
+                member = pathlib.Path(folder) / name
+                files.append((member.relative_to(path).as_posix(), member))
+    return sorted(files)
+
+
 def content_sha256(path):
     """Hex SHA-256 identifying a night in the catalogue: of a file's bytes; of a
     MeasurementSet, of every file's relative path, size and bytes in sorted order, except
     casacore's table.lock files (rewritten by any program that opens a table with locking,
-    though no data changed)."""
+    though no data changed). Every byte is read, at every run of a survey."""
     path = pathlib.Path(path)
     digest = hashlib.sha256()
     if not path.is_dir():
         _hash_file(digest, path)
         return digest.hexdigest()
-    for member in sorted(p for p in path.rglob("*") if p.is_file() and p.name != "table.lock"):
-        relative = member.relative_to(path).as_posix().encode()
-        digest.update(len(relative).to_bytes(8, "little") + relative)
+    for relative, member in _measurement_set_files(path):
+        name = relative.encode()
+        digest.update(len(name).to_bytes(8, "little") + name)
         digest.update(member.stat().st_size.to_bytes(8, "little"))
         _hash_file(digest, member)
     return digest.hexdigest()

@@ -1,5 +1,5 @@
-"""One night of a survey: the night pipeline (wvr.process_night, in C++ with the GIL released)
-on one night file or MeasurementSet (imported first), reduced to one catalogue row. Runs on a dask worker; never raises for a bad
+"""One night of a survey: the night pipeline (wvr.process_night, in C++ with the GIL
+released) on one night file or MeasurementSet (imported first), reduced to one catalogue row. Runs on a dask worker; never raises for a bad
 night: the row then says status "failed" and holds the error."""
 import json
 import math
@@ -28,7 +28,10 @@ FILE_OPTIONS = ("site_file", "thresholds_file")
 #: prefix, ms_radiometer_file for its radiometer TOML (ms_brightness is required when the
 #: survey holds a MeasurementSet: archives differ).
 IMPORT_OPTIONS = ("ms_brightness", "ms_radiometer_window", "ms_radiometer_file",
-                  "ms_reference_antenna", "ms_clock_offset", "ms_clock_search_s")
+                  "ms_reference_antenna", "ms_array_centre", "ms_clock_offset",
+                  "ms_clock_search_s")
+#: Values of ms_brightness (wvr::BrightnessConvention).
+BRIGHTNESS_CONVENTIONS = ("rayleigh-jeans", "planck")
 
 #: Verdicts under which the correction did its job (the sky needed it and it worked, or the
 #: sky was quiet enough that it did not matter).
@@ -53,6 +56,14 @@ def _process_arguments(options, threads):
     return arguments
 
 
+def options_for(path, options):
+    """The options that bear on the night at `path`: the ms_* options only for a
+    MeasurementSet, so that adding them to a survey does not make its night files new."""
+    if is_measurement_set(path):
+        return dict(options)
+    return {k: v for k, v in options.items() if k not in IMPORT_OPTIONS}
+
+
 def check_input_options(paths, options):
     """Raises SurveyInputError before any work when a MeasurementSet among `paths` cannot be
     imported with `options` (no ms_brightness, or no MeasurementSet support)."""
@@ -65,10 +76,12 @@ def _require_import(path, options):
     if not wvr.HAS_MEASUREMENT_SETS:
         raise SurveyInputError(f"{path}: a MeasurementSet, but this wvr was built without "
                                "casacore (no MeasurementSet import)")
-    if "ms_brightness" not in options:
+    if options.get("ms_brightness") not in BRIGHTNESS_CONVENTIONS:
+        given = (f" (given: {options['ms_brightness']!r})" if "ms_brightness" in options
+                 else "")
         raise SurveyInputError(f"{path}: a MeasurementSet needs the option ms_brightness "
                                "('rayleigh-jeans' or 'planck': how its radiometer window stores "
-                               "brightness)")
+                               f"brightness){given}")
 
 
 def read_input(path, options):
@@ -182,7 +195,7 @@ def night_row(night, result):
 
 
 def process_one(path, options=None, sha256=None, threads=1):
-    """Processes the night file at `path` with the survey options (see check_options) and
+    """Processes the night file or MeasurementSet at `path` with the survey options (see check_options) and
     returns its catalogue row: the identity (path, content_sha256, options_json), the numbers
     of night_row, status "ok" or "failed" with the error, the software version, the worker and
     the processing time. Never raises for a bad night."""
@@ -193,7 +206,7 @@ def process_one(path, options=None, sha256=None, threads=1):
         "path": str(path),
         "night_name": pathlib.Path(path).stem,
         "content_sha256": sha256,
-        "options_json": canonical_options(options),
+        "options_json": canonical_options(options_for(path, options)),
         "software_version": wvr.__version__,
         "worker": f"{socket.gethostname()}:{os.getpid()}",
     }

@@ -5,7 +5,7 @@ import sys
 import time
 
 from wvr.survey._inputs import canonical_options, content_sha256, resolve_nights
-from wvr.survey._night_task import check_input_options, check_options, process_one
+from wvr.survey._night_task import check_input_options, check_options, options_for, process_one
 from wvr.survey.catalogue import Catalogue
 
 #: Statuses a rerun does not repeat (failed nights too unless retry_failed).
@@ -56,16 +56,19 @@ def run_survey(nights=(), catalogue="survey.sqlite", *, manifests=(), options=No
     started = time.perf_counter()
     options = dict(options or {})
     check_options(options)
-    options_json = canonical_options(options)
+    canonical_options(options)  # refuses options JSON cannot hold, before any work
     paths = resolve_nights(nights, manifests)
     check_input_options(paths, options)
     with Catalogue(catalogue) as cat:
-        done = cat.statuses(options_json)
+        done = {}  # {options JSON: {content_sha256: status}}
         skip = _DONE if retry_failed else _DONE + ("failed",)
         todo = []
         for path in paths:
+            path_options = canonical_options(options_for(path, options))
+            if path_options not in done:
+                done[path_options] = cat.statuses(path_options)
             sha = content_sha256(path)
-            if done.get(sha) not in skip:
+            if done[path_options].get(sha) not in skip:
                 todo.append((path, sha))
         summary = SurveySummary(nights=len(paths), skipped=len(paths) - len(todo), processed=0,
                                 ok=0, failed=0, wall_s=0.0, processing_s=0.0, failures=[])
@@ -122,7 +125,8 @@ def _lost_row(path, sha, options, error):
 
     return {
         "path": str(path), "night_name": path.stem, "content_sha256": sha,
-        "options_json": canonical_options(options), "software_version": wvr.__version__,
+        "options_json": canonical_options(options_for(path, options)),
+        "software_version": wvr.__version__,
         "status": "failed", "error": f"{type(error).__name__}: {error}",
     }
 

@@ -231,7 +231,7 @@ def generate_season(spec_path, output_directory, *, simulate=True, threads=0):
         if simulate:
             night = wvr.simulate_night(wvr.load_scenario(scenario_path), threads=threads)
             night_path = out / f"{stem}.h5"
-            wvr.write_night(night, night_path, overwrite=True)
+            wvr.write_night(night, night_path, overwrite=True, threads=threads)
             drawn[index]["night"] = night_path.name
             written.append(night_path)
         else:
