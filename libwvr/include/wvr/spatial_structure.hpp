@@ -24,6 +24,9 @@ struct SpatialStructureOptions {
   // antenna_path_noise_mm(). Its share of Var(L_b - L_a), sigma_a^2 + sigma_b^2, is
   // subtracted from each baseline (and reported in noise_m2); empty = nothing subtracted.
   std::vector<double> antenna_path_noise_mm;
+  // Worker threads of the slab thickness' jackknife refits (0 = all cores); results do not
+  // depend on it.
+  int threads = 0;
 
   void validate() const;  // throws InvalidInput
 };

@@ -223,6 +223,7 @@ NightTurbulence analyse_night_turbulence(const Night& night,
   NightTurbulence t;
   const AntennaPaths clean = paths_for_turbulence(night, paths, diagnosis);
   SpatialStructureOptions radiometer_options;
+  radiometer_options.threads = options.threads;
   if (retrieval.antennas == night.antenna_count())
     radiometer_options.antenna_path_noise_mm = antenna_path_noise_mm(retrieval);
   const SpatialStructureResult radiometer_sf =

@@ -5,6 +5,7 @@
 #include <cmath>
 #include <sstream>
 
+#include "core/parallel_for.hpp"
 #include "wvr/error.hpp"
 #include "wvr/structure_function.hpp"
 
@@ -60,9 +61,9 @@ NightSlabThickness pooled_slab_thickness(std::span<const Night> nights,
     throw InvalidInput("paths has " + std::to_string(paths.size()) + " entries for " +
                        std::to_string(nights.size()) + " nights");
   }
-  std::vector<AntennaPaths> reduced(paths.begin(), paths.end());
   NightSlabThickness out;
-  out.fit = pooled_fit(nights, reduced, options, bins_per_decade);
+  out.fit = pooled_fit(nights, std::vector<AntennaPaths>(paths.begin(), paths.end()), options,
+                       bins_per_decade);
   out.profile_low_m = out.fit.thickness_low_m;
   out.profile_high_m = out.fit.thickness_high_m;
   // A limit has no error bar to estimate.
@@ -75,27 +76,40 @@ NightSlabThickness pooled_slab_thickness(std::span<const Night> nights,
   std::size_t total = 0;
   for (const AntennaPaths& p : paths) total += p.time_s.size();
   const auto g_count = static_cast<std::size_t>(groups);
+  // Refits are independent: spread over threads, each with its own copy of the paths; a
+  // refit's slot holds its W, or NaN when it was dropped.
+  std::vector<double> refit_thickness_m(g_count, std::nan(""));
+  detail::parallel_blocks(
+      g_count, detail::worker_count(options.threads, g_count),
+      [&](std::size_t begin, std::size_t end, std::size_t) {
+        std::vector<AntennaPaths> without(paths.begin(), paths.end());
+        for (std::size_t g = begin; g < end; ++g) {
+          const std::size_t first = g * total / g_count, last = (g + 1) * total / g_count;
+          std::size_t offset = 0;
+          for (std::size_t n = 0; n < without.size(); ++n) {
+            without[n].path_mm = paths[n].path_mm;
+            const std::size_t nt = paths[n].time_s.size();
+            const std::size_t lo = std::max(first, offset), hi = std::min(last, offset + nt);
+            for (std::size_t a = 0; a < without[n].antennas && lo < hi; ++a) {
+              for (std::size_t i = lo - offset; i < hi - offset; ++i)
+                without[n].path_mm[a * nt + i] = std::nan("");
+            }
+            offset += nt;
+          }
+          const SlabThicknessFit f = pooled_fit(nights, without, options, bins_per_decade);
+          // A refit that only gives a limit would bias the spread: dropped.
+          if (f.ok() && f.constraint == ThicknessConstraint::kMeasured)
+            refit_thickness_m[g] = f.thickness_m;
+        }
+      });
   std::vector<double> logs;
-  for (std::size_t g = 0; g < g_count; ++g) {
-    const std::size_t first = g * total / g_count, last = (g + 1) * total / g_count;
-    std::size_t offset = 0;
-    for (std::size_t n = 0; n < reduced.size(); ++n) {
-      reduced[n] = paths[n];
-      const std::size_t nt = paths[n].time_s.size();
-      const std::size_t lo = std::max(first, offset), hi = std::min(last, offset + nt);
-      for (std::size_t a = 0; a < reduced[n].antennas && lo < hi; ++a) {
-        for (std::size_t i = lo - offset; i < hi - offset; ++i)
-          reduced[n].path_mm[a * nt + i] = std::nan("");
-      }
-      offset += nt;
-    }
-    const SlabThicknessFit f = pooled_fit(nights, reduced, options, bins_per_decade);
-    if (!f.ok() || f.constraint != ThicknessConstraint::kMeasured) {
-      ++out.segments_dropped;  // a refit that only gives a limit would bias the spread
+  for (double w : refit_thickness_m) {
+    if (std::isnan(w)) {
+      ++out.segments_dropped;
       continue;
     }
-    out.segment_thickness_m.push_back(f.thickness_m);
-    logs.push_back(std::log(f.thickness_m));
+    out.segment_thickness_m.push_back(w);
+    logs.push_back(std::log(w));
   }
   const double k = static_cast<double>(logs.size());
   if (logs.size() < 2) return out;

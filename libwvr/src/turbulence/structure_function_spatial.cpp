@@ -34,6 +34,8 @@ void SpatialStructureOptions::validate() const {
   require_in_range("window_s", window_s, 0.0, 1e7, "s");
   if (min_samples < 2)
     throw InvalidInput("min_samples = " + std::to_string(min_samples) + " must be at least 2");
+  if (threads < 0)
+    throw InvalidInput("threads = " + std::to_string(threads) + " is negative (0: all cores)");
 }
 
 std::string SpatialStructureResult::brief_report() const {
