@@ -143,7 +143,8 @@ def test_the_whole_chain_and_the_report(tmp_path):
     before = night.read_bytes()
     summary = json.loads(run("correct", str(night), "-o", str(tmp_path / "corrected.h5"), "--site", SITE,
                              "--format", "json").stdout)
-    for key in ("scale", "scale_sigma", "phase_rms_before_deg", "phase_rms_after_deg", "improvement_factor",
+    for key in ("scale", "scale_sigma", "per_antenna_scale", "antenna_scale_statistic", "antenna_scale_threshold",
+                "phase_rms_before_deg", "phase_rms_after_deg", "improvement_factor",
                 "coherence_before", "coherence_after", "antennas"):
         assert key in summary, key
     # correct on a night without a calibration runs the scaling solve first (the night pipeline)

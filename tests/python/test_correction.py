@@ -42,6 +42,13 @@ def test_scaling_and_correction_improve_the_calibrator_phases(wet_night):
     # The simulated sky is the model's: the scale is 1 within its error (3 sigma).
     assert abs(cal.scale - 1.0) < 3.0 * cal.scale_sigma + 0.02
     assert cal.antenna_scale.shape == (night.antenna_count,)
+    # The default chose between one scale and one per antenna and says by which test; forced
+    # choices run no test.
+    assert np.isfinite(cal.antenna_scale_statistic) and cal.antenna_scale_threshold > 0
+    assert cal.per_antenna_scale == (cal.antenna_scale_statistic > cal.antenna_scale_threshold)
+    for forced in (True, False):
+        one = wvr.solve_scaling(night, retrieval, scenario.site, per_antenna_scale=forced)
+        assert one.per_antenna_scale is forced and np.isnan(one.antenna_scale_statistic)
     corrected, metrics = wvr.correct_night(night, retrieval, scenario.site,
                                            antenna_scale=cal.antenna_scale)
     assert corrected.obs_freq_ghz == pytest.approx(230.0)

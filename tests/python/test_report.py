@@ -176,6 +176,10 @@ def test_report_data_numbers_are_the_typed_results(data, night, processed):
     assert correction["obs_freq_ghz"] == processed.obs_freq_ghz
     assert data["calibration"]["scale"] == calibration.scale
     assert data["calibration"]["scale_sigma"] == calibration.scale_sigma
+    assert data["calibration"]["per_antenna_scale"] == calibration.per_antenna_scale
+    for key in ("antenna_scale_statistic", "antenna_scale_threshold"):  # NaN when forced: None
+        value = getattr(calibration, key)
+        assert data["calibration"][key] == (value if np.isfinite(value) else None), key
     assert data["retrieval"]["pwv_median_mm"] == processed.retrieval.summary()["pwv_median_mm"]
     windows = processed.diagnosis.windows
     assert len(data["windows"]) == len(windows) == len(night.scans)

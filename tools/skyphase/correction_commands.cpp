@@ -36,6 +36,10 @@ void print_summary(const wvr::Night& night,
     j["scale"] = scale;
     j["scale_sigma"] = scale_sigma;
     j["calibrated"] = calibrated;
+    // Which scaling the solve kept and the test that chose it (null when forced).
+    j["per_antenna_scale"] = result.calibration->per_antenna_scale;
+    j["antenna_scale_statistic"] = result.calibration->antenna_scale_statistic;
+    j["antenna_scale_threshold"] = result.calibration->antenna_scale_threshold;
     j["status"] = status;
     j["phase_rms_before_deg"] = m.phase_rms_before_deg;
     j["phase_rms_after_deg"] = m.phase_rms_after_deg;
@@ -76,6 +80,7 @@ void print_summary(const wvr::Night& night,
 struct CalibrateOptions {
   CommonOptions common;
   bool per_antenna = false;
+  bool one_scale = false;
   bool baseline_solve = false;
   double segment_s = 0.0;
   int reference_antenna = 0;
@@ -84,7 +89,8 @@ struct CalibrateOptions {
 void run_calibrate(const CalibrateOptions& o) {
   wvr::NightProcessingOptions options = processing_options(o.common, wvr::NightStage::kCalibration);
   wvr::CalibrationOptions calibration;
-  calibration.per_antenna_scale = o.per_antenna;
+  if (o.per_antenna) calibration.antenna_scaling = wvr::AntennaScaling::kPerAntenna;
+  if (o.one_scale) calibration.antenna_scaling = wvr::AntennaScaling::kOneForArray;
   if (o.baseline_solve) calibration.form = wvr::ScalingSolveForm::kBaselinePhases;
   calibration.segment_s = o.segment_s;
   calibration.reference_antenna = o.reference_antenna;
@@ -114,8 +120,13 @@ void add_calibrate_command(CLI::App& app) {
   CLI::App* cmd = app.add_subcommand(
       "calibrate", "Solve the radiometer phase scaling against calibrator phases");
   add_common(*cmd, options->common);
-  cmd->add_flag("--per-antenna", options->per_antenna,
-                "Also fit one scale per antenna (prior around the array scale)");
+  // Default: both fitted, per-antenna scales kept when a BIC test finds them significant.
+  CLI::Option* per_antenna =
+      cmd->add_flag("--per-antenna", options->per_antenna,
+                    "Always fit one scale per antenna (prior around the array scale); by "
+                    "default they are kept when the calibrator residuals show them significant");
+  cmd->add_flag("--one-scale", options->one_scale, "Always fit one scale for the whole array")
+      ->excludes(per_antenna);
   cmd->add_flag("--baseline-solve", options->baseline_solve,
                 "Fit every baseline phase instead of antenna phases (memory grows with baselines)");
   cmd->add_option("--segment-s", options->segment_s,

@@ -11,6 +11,7 @@
 #include <vector>
 
 #include "wvr/atmosphere.hpp"
+#include "wvr/calibration.hpp"
 #include "wvr/refractivity.hpp"
 
 namespace wvr::python {
@@ -43,6 +44,12 @@ void export_correction(py::module_& m);
 void export_night_processing(py::module_& m);
 void export_streaming(py::module_& m);
 void export_radiometer_cross_calibration(py::module_& m);
+
+// per_antenna_scale as Python passes it: None = chosen by the data, True or False = forced.
+inline AntennaScaling antenna_scaling_of(std::optional<bool> per_antenna_scale) {
+  if (!per_antenna_scale) return AntennaScaling::kChosenByData;
+  return *per_antenna_scale ? AntennaScaling::kPerAntenna : AntennaScaling::kOneForArray;
+}
 
 // C-contiguous float64 arrays, converted from any array-like (lists, scalars, integer arrays).
 using DoubleArray = py::array_t<double, py::array::c_style | py::array::forcecast>;

@@ -62,12 +62,12 @@ std::vector<double> antenna_scale_of(const py::object& scale, std::size_t antenn
 CalibrationResult solve(const Night& night,
                         const NightRetrieval& retrieval,
                         const std::optional<SiteConfig>& site,
-                        bool per_antenna_scale,
+                        std::optional<bool> per_antenna_scale,
                         double antenna_scale_prior_sigma,
                         double segment_s,
                         int reference_antenna) {
   CalibrationOptions options;
-  options.per_antenna_scale = per_antenna_scale;
+  options.antenna_scaling = antenna_scaling_of(per_antenna_scale);
   options.antenna_scale_prior_sigma = antenna_scale_prior_sigma;
   options.segment_s = segment_s;
   options.reference_antenna = reference_antenna;
@@ -104,11 +104,15 @@ AntennaPaths with time_s [time], path_mm [antenna, time] (NaN where unusable) an
 [antenna, time] (0 = usable). Raises WvrValueError when the retrieval belongs to another night.
 )doc");
   m.def("solve_scaling", &solve, py::arg("night"), py::arg("retrieval"),
-        py::arg("site") = py::none(), py::kw_only(), py::arg("per_antenna_scale") = false,
+        py::arg("site") = py::none(), py::kw_only(), py::arg("per_antenna_scale") = py::none(),
         py::arg("antenna_scale_prior_sigma") = 0.1, py::arg("segment_s") = 0.0,
         py::arg("reference_antenna") = 0, R"doc(
 Solves the scale between radiometer path and calibrator phase (the site, by default the
-night's own, gives the dispersion of the wet refractivity). Returns a CalibrationResult.
+night's own, gives the dispersion of the wet refractivity). per_antenna_scale: None (the
+default) fits one scale for the array and one per antenna and keeps the per-antenna scales when
+a BIC test on the calibrator residuals finds them significant (the result's
+antenna_scale_statistic against antenna_scale_threshold); True or False forces either.
+Returns a CalibrationResult.
 )doc");
   m.def("correct_night", &correct, py::arg("night"), py::arg("retrieval"),
         py::arg("site") = py::none(), py::kw_only(), py::arg("antenna_scale") = py::none(),

@@ -86,7 +86,7 @@ NightProcessingResult run(const Night& night,
   }
   if (per_antenna_scale || segment_s != 0.0 || reference_antenna != 0) {
     CalibrationOptions calibration;
-    calibration.per_antenna_scale = per_antenna_scale.value_or(false);
+    calibration.antenna_scaling = antenna_scaling_of(per_antenna_scale);
     calibration.antenna_scale_prior_sigma = antenna_scale_prior_sigma;
     calibration.segment_s = segment_s;
     calibration.reference_antenna = reference_antenna;
@@ -294,6 +294,9 @@ void export_correction_types(py::module_& m) {
       .def_property_readonly("segment_scale", view_1d(&CalibrationResult::segment_scale))
       .def_property_readonly("segment_scale_sigma",
                              view_1d(&CalibrationResult::segment_scale_sigma))
+      .def_readonly("per_antenna_scale", &CalibrationResult::per_antenna_scale)
+      .def_readonly("antenna_scale_statistic", &CalibrationResult::antenna_scale_statistic)
+      .def_readonly("antenna_scale_threshold", &CalibrationResult::antenna_scale_threshold)
       .def_readonly("rows_used", &CalibrationResult::rows_used)
       .def_readonly("rows_skipped", &CalibrationResult::rows_skipped)
       .def("brief_report", &CalibrationResult::brief_report);
@@ -532,7 +535,8 @@ correction, diagnosis and turbulence, up to last_stage, reusing stages stored in
 when they match. site: a SiteConfig overriding the night's own (None: the night's site
 record, or defaults from its weather). Retrieval options (window_s, fit_liquid,
 fit_temperature) or calibration options (per_antenna_scale, segment_s, reference_antenna)
-left at their defaults mean "the stored one, else the defaults". obs_freq_ghz: None = the
+left at their defaults mean "the stored one, else the defaults" (per_antenna_scale None: one
+scale per antenna when the data show it, see solve_scaling; True or False forces either). obs_freq_ghz: None = the
 night's scans. thresholds: a DiagnosisThresholds (see load_diagnosis_thresholds).
 path_prediction: how antennas whose radiometer gave no samples are corrected: "frozen_flow"
 (falls back to neighbours without a measured wind), "neighbours" or "off". Returns a

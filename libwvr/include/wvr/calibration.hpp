@@ -28,6 +28,7 @@
 // two-antenna graphs, an approximation for others). Memory then grows with antennas x
 // integrations, not with baselines.
 
+#include <cmath>
 #include <functional>
 #include <string>
 #include <vector>
@@ -51,9 +52,25 @@ enum class ScalingSolveForm {
   kBaselinePhases,  // every baseline phase row fitted; memory grows with baselines
 };
 
+// One scale for the array or one per antenna. Radiometer gains differ by a few per cent, which
+// scales each antenna's path differently, but a night with few calibrator rows must not fit
+// noise: by default both are fitted and the per-antenna scales kept only when they lower the
+// calibrator residual by more than the Bayesian information criterion asks for extra
+// parameters. With the wrap-aware cost read as a Gaussian likelihood of unknown variance, the
+// statistic is n ln(C_array / C_per_antenna) (C each fit's residual cost without the prior) and
+// the threshold (A - 1) ln n for A antennas with a scale (Schwarz 1978, Ann. Stat. 6, 461:
+// BIC = k ln n - 2 ln L). n is the number of phase rows made effective for correlation: what the
+// correction leaves (dry turbulence, path errors) is correlated from one integration to the
+// next, and n = rows (1 - rho) / (1 + rho) with rho the lag-one correlation of the per-antenna
+// fit's residuals within a scan (the AR(1) effective sample size, common practice). Counted
+// row by row, per-antenna scales came out "significant" on nights without any gain error,
+// where they took up dry phase that correlates with the wet path by chance.
+enum class AntennaScaling { kChosenByData, kOneForArray, kPerAntenna };
+const char* to_string(AntennaScaling scaling);
+
 struct CalibrationOptions {
   ScalingSolveForm form = ScalingSolveForm::kAntennaPhases;
-  bool per_antenna_scale = false;
+  AntennaScaling antenna_scaling = AntennaScaling::kChosenByData;
   double antenna_scale_prior_sigma = 0.1;  // prior N(array scale, sigma) on each antenna scale
   double segment_s = 0.0;                  // > 0: one array scale per segment of this length
   int reference_antenna = 0;
@@ -75,7 +92,12 @@ struct CalibrationResult {
   double scale = 1.0;  // array scale (first segment when segmented)
   double scale_sigma = 0.0;
   std::vector<double> antenna_scale,
-      antenna_scale_sigma;  // [antenna]; equal to scale if not fitted
+      antenna_scale_sigma;         // [antenna]; equal to scale if not fitted
+  bool per_antenna_scale = false;  // the scaling kept: one per antenna, or one for the array
+  // The test that chose it (AntennaScaling::kChosenByData; NaN when the scaling was forced):
+  // n ln(C_array / C_per_antenna) against (A - 1) ln n, see AntennaScaling.
+  double antenna_scale_statistic = std::nan("");
+  double antenna_scale_threshold = std::nan("");
   // Segments holding calibrator rows only (a segment within target scans has no scale); a
   // sigma is NaN when the covariance is not available.
   std::vector<double> segment_start_s, segment_scale, segment_scale_sigma;

@@ -8,6 +8,7 @@
 #include <complex>
 #include <limits>
 #include <map>
+#include <memory>
 #include <numbers>
 #include <sstream>
 #include <unordered_map>
@@ -32,6 +33,18 @@ void CalibrationOptions::validate() const {
     throw InvalidInput("max_iterations = " + std::to_string(max_iterations) + " must be positive");
 }
 
+const char* to_string(AntennaScaling scaling) {
+  switch (scaling) {
+    case AntennaScaling::kChosenByData:
+      return "chosen by data";
+    case AntennaScaling::kOneForArray:
+      return "one for the array";
+    case AntennaScaling::kPerAntenna:
+      return "per antenna";
+  }
+  return "unknown";
+}
+
 const char* to_string(CalibrationStatus status) {
   switch (status) {
     case CalibrationStatus::kConverged:
@@ -52,6 +65,9 @@ std::string CalibrationResult::brief_report() const {
   out << to_string(status) << ": scale " << scale << " +/- " << scale_sigma << ", " << rows_used
       << " phase rows (" << rows_skipped << " skipped)";
   if (segment_scale.size() > 1) out << ", " << segment_scale.size() << " segments";
+  out << (per_antenna_scale ? ", a scale per antenna" : ", one scale for the array");
+  if (std::isfinite(antenna_scale_statistic))
+    out << " (test " << antenna_scale_statistic << " against " << antenna_scale_threshold << ")";
   out << ", " << iterations << " iterations";
   if (!message.empty()) out << " [" << message << "]";
   return out.str();
@@ -430,6 +446,218 @@ class StartSearch {
   std::vector<std::uint32_t> row_group_, antenna_group_;
 };
 
+// The free parameters of one fit.
+struct FitParameters {
+  std::vector<double> segment_scale, ratio, offsets, common;  // ratio: antenna scale / array
+};
+
+// One solve of the scaling: its Ceres problem over its own parameters (at fixed addresses),
+// with one ratio per antenna free (under the prior) or all held at 1.
+class ScalingFit {
+ public:
+  ScalingFit(const FitRows& fit,
+             FitParameters start,
+             std::size_t antennas,
+             std::size_t reference,
+             bool per_antenna,
+             const CalibrationOptions& options)
+      : fit_(fit),
+        p_(std::move(start)),
+        na_(antennas),
+        reference_(reference),
+        per_antenna_(per_antenna),
+        options_(options) {
+    ceres::LossFunction* loss = new ceres::CauchyLoss(options.loss_scale);
+    std::map<double, ceres::LossFunction*> weighted_loss;
+    auto offset_block = [&](std::size_t scan, std::size_t ant) -> double* {
+      return ant == reference ? &zero_ : &p_.offsets[scan * na_ + ant];
+    };
+    for (const Row& r : fit.rows) {
+      auto* cost = new PhaseResidual(r);
+      problem_.AddResidualBlock(cost, loss, &p_.segment_scale[r.segment], &p_.ratio[r.a],
+                                &p_.ratio[r.b], offset_block(r.scan, r.a),
+                                offset_block(r.scan, r.b));
+    }
+    for (const AntennaRow& r : fit.antenna_rows) {
+      // Each antenna row stands for `weight` baselines' worth of the cost (see the header).
+      ceres::LossFunction*& weighted = weighted_loss[fit.integrations[r.integration].weight];
+      if (weighted == nullptr) {
+        weighted =
+            new ceres::ScaledLoss(new ceres::CauchyLoss(options.loss_scale),
+                                  fit.integrations[r.integration].weight, ceres::TAKE_OWNERSHIP);
+      }
+      auto* cost = new AntennaPhaseResidual(r);
+      problem_.AddResidualBlock(cost, weighted, &p_.segment_scale[r.segment], &p_.ratio[r.antenna],
+                                offset_block(r.scan, r.antenna), &p_.common[r.integration]);
+    }
+    if (problem_.HasParameterBlock(&zero_)) problem_.SetParameterBlockConstant(&zero_);
+    if (fit.rows.empty()) delete loss;  // no residual block took ownership of it
+    for (std::size_t a = 0; a < na_; ++a) {
+      if (!problem_.HasParameterBlock(&p_.ratio[a])) continue;
+      if (per_antenna_) {
+        problem_.AddResidualBlock(new ceres::AutoDiffCostFunction<RatioPrior, 1, 1>(
+                                      new RatioPrior(options.antenna_scale_prior_sigma)),
+                                  nullptr, &p_.ratio[a]);
+        ++scaled_antennas_;
+      } else {
+        problem_.SetParameterBlockConstant(&p_.ratio[a]);
+      }
+    }
+  }
+
+  void solve(int threads) {
+    ceres::Solver::Options solver_options;
+    solver_options.linear_solver_type = ceres::SPARSE_NORMAL_CHOLESKY;
+    solver_options.max_num_iterations = options_.max_iterations;
+    solver_options.logging_type = ceres::SILENT;
+    solver_options.num_threads = threads;
+    // The robust chord cost converges linearly (each step takes about half the remaining
+    // decrease). A relative cost change of 1e-7 leaves the scale within 1e-4 of its sigma of
+    // the 1e-10 solution (64 antennas x 8 h: 12 iterations instead of 21, scale 2e-7 apart).
+    solver_options.function_tolerance = 1e-7;
+    solver_options.parameter_tolerance = 1e-10;
+    ceres::Solve(solver_options, &problem_, &summary_);
+  }
+
+  // Converged, or stopped at the iteration limit (a usable solution, reported as such).
+  bool usable() const {
+    return summary_.termination_type == ceres::CONVERGENCE ||
+           summary_.termination_type == ceres::NO_CONVERGENCE;
+  }
+  const FitParameters& parameters() const { return p_; }
+  std::size_t scaled_antennas() const { return scaled_antennas_; }
+
+  // Lag-one correlation of the wrapped phase residuals of successive rows of one baseline (or
+  // antenna phase) within a calibrator scan.
+  double lag_one_correlation() const {
+    std::unordered_map<std::uint64_t, double> previous;
+    double sum_xy = 0.0, sum_xx = 0.0;
+    auto add = [&](std::uint64_t series, double residual_rad) {
+      const auto [it, first] = previous.try_emplace(series, residual_rad);
+      if (!first) {
+        sum_xy += it->second * residual_rad;
+        it->second = residual_rad;
+      }
+      sum_xx += residual_rad * residual_rad;
+    };
+    auto offset = [&](std::uint32_t scan, std::uint32_t ant) {
+      return ant == reference_ ? 0.0 : p_.offsets[scan * na_ + ant];
+    };
+    for (const Row& r : fit_.rows) {
+      const double model = r.k_rad_per_mm * p_.segment_scale[r.segment] *
+                               (p_.ratio[r.b] * r.path_b_mm - p_.ratio[r.a] * r.path_a_mm) +
+                           offset(r.scan, r.b) - offset(r.scan, r.a);
+      add((std::uint64_t{r.scan} * na_ + r.a) * na_ + r.b,
+          std::remainder(r.phase_rad - model, kTwoPi));
+    }
+    for (const AntennaRow& r : fit_.antenna_rows) {
+      const double model =
+          r.k_rad_per_mm * p_.segment_scale[r.segment] * p_.ratio[r.antenna] * r.path_mm +
+          offset(r.scan, r.antenna) + p_.common[r.integration];
+      add((std::uint64_t{r.scan} * na_ + r.antenna) * na_ + r.antenna,
+          std::remainder(r.phase_rad - model, kTwoPi));
+    }
+    return sum_xx > 0.0 ? sum_xy / sum_xx : 0.0;
+  }
+
+  // The residual cost without the prior's.
+  double data_cost() const {
+    double prior = 0.0;
+    if (per_antenna_) {
+      for (std::size_t a = 0; a < na_; ++a) {
+        if (!problem_.HasParameterBlock(&p_.ratio[a])) continue;
+        const double z = (p_.ratio[a] - 1.0) / options_.antenna_scale_prior_sigma;
+        prior += 0.5 * z * z;
+      }
+    }
+    return summary_.final_cost - prior;
+  }
+
+  // Status, scales and their uncertainties (offsets and common phases marginalised) into
+  // `result`.
+  void write(int threads,
+             double t0,
+             double segment_s,
+             const std::vector<std::size_t>& segment_number,
+             CalibrationResult& result) {
+    result.iterations = static_cast<int>(summary_.iterations.size());
+    result.final_cost = summary_.final_cost;
+    result.per_antenna_scale = per_antenna_;
+    if (summary_.termination_type == ceres::CONVERGENCE) {
+      result.status = CalibrationStatus::kConverged;
+    } else if (summary_.termination_type == ceres::NO_CONVERGENCE) {
+      result.status = CalibrationStatus::kNoConvergence;
+      result.message = "iteration limit reached";
+    } else {
+      result.status = CalibrationStatus::kSolverFailure;
+      result.message = summary_.message;
+      return;
+    }
+    std::vector<double>& segment_scale = p_.segment_scale;
+    std::vector<double>& ratio = p_.ratio;
+    ceres::Covariance::Options covariance_options;
+    covariance_options.algorithm_type = ceres::SPARSE_QR;
+    covariance_options.num_threads = threads;
+    ceres::Covariance covariance(covariance_options);
+    std::vector<std::pair<const double*, const double*>> blocks;
+    for (double& s : segment_scale) blocks.emplace_back(&s, &s);
+    if (per_antenna_) {
+      for (std::size_t a = 0; a < na_; ++a) {
+        if (!problem_.HasParameterBlock(&ratio[a])) continue;
+        blocks.emplace_back(&ratio[a], &ratio[a]);
+        for (double& s : segment_scale) blocks.emplace_back(&s, &ratio[a]);
+      }
+    }
+    const bool have_covariance = covariance.Compute(blocks, &problem_);
+    auto cov = [&](const double* x, const double* y) {
+      double value = std::nan("");
+      if (have_covariance) covariance.GetCovarianceBlock(x, y, &value);
+      return value;
+    };
+    if (!have_covariance)
+      result.message +=
+          (result.message.empty() ? "" : "; ") + std::string("covariance not available");
+
+    // NaN (no covariance) stays NaN: std::max(0.0, NaN) would report a zero uncertainty.
+    auto standard_deviation = [](double variance) {
+      return std::isnan(variance) ? variance : std::sqrt(std::max(0.0, variance));
+    };
+    for (std::size_t s = 0; s < segment_scale.size(); ++s) {
+      result.segment_start_s.push_back(t0 + segment_s * static_cast<double>(segment_number[s]));
+      result.segment_scale.push_back(segment_scale[s]);
+      result.segment_scale_sigma.push_back(
+          standard_deviation(cov(&segment_scale[s], &segment_scale[s])));
+    }
+    result.scale = segment_scale[0];
+    result.scale_sigma = result.segment_scale_sigma[0];
+    for (std::size_t a = 0; a < na_; ++a) {
+      result.antenna_scale[a] = segment_scale[0] * ratio[a];
+      if (!per_antenna_ || !problem_.HasParameterBlock(&ratio[a])) {
+        result.antenna_scale_sigma[a] = result.scale_sigma;
+        continue;
+      }
+      // s_a = S r_a: first-order propagation with the S-r_a correlation.
+      const double vs = cov(&segment_scale[0], &segment_scale[0]);
+      const double vr = cov(&ratio[a], &ratio[a]);
+      const double csr = cov(&segment_scale[0], &ratio[a]);
+      const double var = ratio[a] * ratio[a] * vs + segment_scale[0] * segment_scale[0] * vr +
+                         2.0 * segment_scale[0] * ratio[a] * csr;
+      result.antenna_scale_sigma[a] = standard_deviation(var);
+    }
+  }
+
+ private:
+  const FitRows& fit_;
+  FitParameters p_;
+  double zero_ = 0.0;  // the reference antenna's offsets
+  std::size_t na_, reference_;
+  bool per_antenna_;
+  const CalibrationOptions& options_;
+  std::size_t scaled_antennas_ = 0;
+  ceres::Problem problem_;
+  ceres::Solver::Summary summary_;
+};
+
 }  // namespace
 
 CalibrationResult solve_scaling(const Night& night,
@@ -552,7 +780,6 @@ CalibrationResult solve_scaling(const Night& night,
     r.segment = static_cast<std::uint32_t>(segment_index.at(r.segment));
   const std::size_t segments = segment_number.size();
   std::vector<double> segment_scale(segments, best_scale);
-  std::vector<double> ratio(na, 1.0);
   std::vector<double> offsets(fit.scans * na, 0.0);  // [scan, antenna]; the reference's stay 0
   for (std::size_t g = 0; g < search.keys().size(); ++g) {
     const auto& key = search.keys()[g];
@@ -571,8 +798,6 @@ CalibrationResult solve_scaling(const Night& night,
   std::vector<double> common(fit.integrations.size());
   for (std::size_t n = 0; n < common.size(); ++n)
     common[n] = std::atan2(common_sum[n].second, common_sum[n].first);
-  double zero = 0.0;
-
   // Each row is one phase: fewer rows than free parameters (a scale per segment, an offset per
   // calibrator scan and antenna) leave the solve undetermined, and its zero residual would read
   // as a perfect fit.
@@ -586,118 +811,39 @@ CalibrationResult solve_scaling(const Night& night,
     return result;
   }
 
-  ceres::Problem problem;
-  ceres::LossFunction* loss = new ceres::CauchyLoss(options.loss_scale);
-  std::map<double, ceres::LossFunction*> weighted_loss;
-  auto offset_block = [&](std::size_t scan, std::size_t ant) -> double* {
-    return ant == ref ? &zero : &offsets[scan * na + ant];
-  };
-  for (const Row& r : fit.rows) {
-    auto* cost = new PhaseResidual(r);
-    problem.AddResidualBlock(cost, loss, &segment_scale[r.segment], &ratio[r.a], &ratio[r.b],
-                             offset_block(r.scan, r.a), offset_block(r.scan, r.b));
-  }
-  for (const AntennaRow& r : fit.antenna_rows) {
-    // Each antenna row stands for `weight` baselines' worth of the cost (see the header).
-    ceres::LossFunction*& weighted = weighted_loss[fit.integrations[r.integration].weight];
-    if (weighted == nullptr) {
-      weighted =
-          new ceres::ScaledLoss(new ceres::CauchyLoss(options.loss_scale),
-                                fit.integrations[r.integration].weight, ceres::TAKE_OWNERSHIP);
-    }
-    auto* cost = new AntennaPhaseResidual(r);
-    problem.AddResidualBlock(cost, weighted, &segment_scale[r.segment], &ratio[r.antenna],
-                             offset_block(r.scan, r.antenna), &common[r.integration]);
-  }
-  if (problem.HasParameterBlock(&zero)) problem.SetParameterBlockConstant(&zero);
-  if (fit.rows.empty()) delete loss;  // no residual block took ownership of it
-  for (std::size_t a = 0; a < na; ++a) {
-    if (!problem.HasParameterBlock(&ratio[a])) continue;
-    if (options.per_antenna_scale) {
-      problem.AddResidualBlock(new ceres::AutoDiffCostFunction<RatioPrior, 1, 1>(
-                                   new RatioPrior(options.antenna_scale_prior_sigma)),
-                               nullptr, &ratio[a]);
-    } else {
-      problem.SetParameterBlockConstant(&ratio[a]);
-    }
-  }
+  const FitParameters start{segment_scale, std::vector<double>(na, 1.0), offsets, common};
   const int threads = static_cast<int>(detail::worker_count(options.threads, 64));
-  ceres::Solver::Options solver_options;
-  solver_options.linear_solver_type = ceres::SPARSE_NORMAL_CHOLESKY;
-  solver_options.max_num_iterations = options.max_iterations;
-  solver_options.logging_type = ceres::SILENT;
-  solver_options.num_threads = threads;
-  // The robust chord cost converges linearly (each step takes about half the remaining
-  // decrease). A relative cost change of 1e-7 leaves the scale within 1e-4 of its sigma of the
-  // 1e-10 solution (64 antennas x 8 h: 12 iterations instead of 21, scale 2e-7 apart).
-  solver_options.function_tolerance = 1e-7;
-  solver_options.parameter_tolerance = 1e-10;
-  ceres::Solver::Summary summary;
-  ceres::Solve(solver_options, &problem, &summary);
-  result.iterations = static_cast<int>(summary.iterations.size());
-  result.final_cost = summary.final_cost;
-  if (summary.termination_type == ceres::CONVERGENCE) {
-    result.status = CalibrationStatus::kConverged;
-  } else if (summary.termination_type == ceres::NO_CONVERGENCE) {
-    result.status = CalibrationStatus::kNoConvergence;
-    result.message = "iteration limit reached";
+  std::unique_ptr<ScalingFit> kept;
+  if (options.antenna_scaling == AntennaScaling::kChosenByData) {
+    // Both fits, the per-antenna one from the array one's solution.
+    auto array = std::make_unique<ScalingFit>(fit, start, na, ref, false, options);
+    array->solve(threads);
+    if (!array->usable()) {
+      kept = std::move(array);
+    } else {
+      auto per_antenna =
+          std::make_unique<ScalingFit>(fit, array->parameters(), na, ref, true, options);
+      per_antenna->solve(threads);
+      // Independent rows: an AR(1) residual of lag-one correlation rho carries the information
+      // of n (1 - rho) / (1 + rho) independent ones (common practice for correlated series).
+      const double rho = std::clamp(per_antenna->lag_one_correlation(), 0.0, 0.999);
+      const double n = static_cast<double>(row_count) * (1.0 - rho) / (1.0 + rho);
+      const double data_cost_per_antenna = per_antenna->data_cost();
+      result.antenna_scale_statistic =
+          data_cost_per_antenna > 0.0 ? n * std::log(array->data_cost() / data_cost_per_antenna)
+                                      : std::numeric_limits<double>::infinity();
+      result.antenna_scale_threshold =
+          static_cast<double>(per_antenna->scaled_antennas() - 1) * std::log(n);
+      const bool significant = per_antenna->usable() && per_antenna->scaled_antennas() > 1 &&
+                               result.antenna_scale_statistic > result.antenna_scale_threshold;
+      kept = significant ? std::move(per_antenna) : std::move(array);
+    }
   } else {
-    result.status = CalibrationStatus::kSolverFailure;
-    result.message = summary.message;
-    return result;
+    kept = std::make_unique<ScalingFit>(
+        fit, start, na, ref, options.antenna_scaling == AntennaScaling::kPerAntenna, options);
+    kept->solve(threads);
   }
-
-  // Uncertainties of the scale blocks, offsets and common phases marginalised.
-  ceres::Covariance::Options covariance_options;
-  covariance_options.algorithm_type = ceres::SPARSE_QR;
-  covariance_options.num_threads = threads;
-  ceres::Covariance covariance(covariance_options);
-  std::vector<std::pair<const double*, const double*>> blocks;
-  for (double& s : segment_scale) blocks.emplace_back(&s, &s);
-  if (options.per_antenna_scale) {
-    for (std::size_t a = 0; a < na; ++a) {
-      if (!problem.HasParameterBlock(&ratio[a])) continue;
-      blocks.emplace_back(&ratio[a], &ratio[a]);
-      for (double& s : segment_scale) blocks.emplace_back(&s, &ratio[a]);
-    }
-  }
-  const bool have_covariance = covariance.Compute(blocks, &problem);
-  auto cov = [&](const double* x, const double* y) {
-    double value = std::nan("");
-    if (have_covariance) covariance.GetCovarianceBlock(x, y, &value);
-    return value;
-  };
-  if (!have_covariance)
-    result.message +=
-        (result.message.empty() ? "" : "; ") + std::string("covariance not available");
-
-  // NaN (no covariance) stays NaN: std::max(0.0, NaN) would report a zero uncertainty.
-  auto standard_deviation = [](double variance) {
-    return std::isnan(variance) ? variance : std::sqrt(std::max(0.0, variance));
-  };
-  for (std::size_t s = 0; s < segments; ++s) {
-    result.segment_start_s.push_back(t0 +
-                                     options.segment_s * static_cast<double>(segment_number[s]));
-    result.segment_scale.push_back(segment_scale[s]);
-    result.segment_scale_sigma.push_back(
-        standard_deviation(cov(&segment_scale[s], &segment_scale[s])));
-  }
-  result.scale = segment_scale[0];
-  result.scale_sigma = result.segment_scale_sigma[0];
-  for (std::size_t a = 0; a < na; ++a) {
-    result.antenna_scale[a] = segment_scale[0] * ratio[a];
-    if (!options.per_antenna_scale || !problem.HasParameterBlock(&ratio[a])) {
-      result.antenna_scale_sigma[a] = result.scale_sigma;
-      continue;
-    }
-    // s_a = S r_a: first-order propagation with the S-r_a correlation.
-    const double vs = cov(&segment_scale[0], &segment_scale[0]);
-    const double vr = cov(&ratio[a], &ratio[a]);
-    const double csr = cov(&segment_scale[0], &ratio[a]);
-    const double var = ratio[a] * ratio[a] * vs + segment_scale[0] * segment_scale[0] * vr +
-                       2.0 * segment_scale[0] * ratio[a] * csr;
-    result.antenna_scale_sigma[a] = standard_deviation(var);
-  }
+  kept->write(threads, t0, options.segment_s, segment_number, result);
   return result;
 }
 

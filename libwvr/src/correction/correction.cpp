@@ -339,6 +339,15 @@ ResultGroup calibration_result_group(const CalibrationResult& c) {
   g.datasets.push_back({"segment_start_s", {ns}, c.segment_start_s, "s", {}});
   g.datasets.push_back({"segment_scale", {ns}, c.segment_scale, "1", {}});
   g.datasets.push_back({"segment_scale_sigma", {ns}, c.segment_scale_sigma, "1", {}});
+  g.datasets.push_back({"per_antenna_scale",
+                        {},
+                        std::vector<std::uint8_t>{static_cast<std::uint8_t>(c.per_antenna_scale)},
+                        "1",
+                        {}});
+  g.datasets.push_back(
+      {"antenna_scale_statistic", {}, std::vector<double>{c.antenna_scale_statistic}, "1", {}});
+  g.datasets.push_back(
+      {"antenna_scale_threshold", {}, std::vector<double>{c.antenna_scale_threshold}, "1", {}});
   return g;
 }
 
@@ -376,6 +385,19 @@ CalibrationResult calibration_from_result_group(const ResultGroup& group,
     c.segment_start_s = doubles("segment_start_s", std::nullopt);
     c.segment_scale = doubles("segment_scale", c.segment_start_s.size());
     c.segment_scale_sigma = doubles("segment_scale_sigma", c.segment_start_s.size());
+  }
+  // Files written before the scaling was chosen per night hold neither: their per-antenna
+  // scale is told by antenna scales that differ.
+  if (const ResultDataset* d = group.find("per_antenna_scale")) {
+    const auto* flag = std::get_if<std::vector<std::uint8_t>>(&d->values);
+    if (flag == nullptr || flag->size() != 1)
+      throw InvalidInput(where + "per_antenna_scale is not one uint8");
+    c.per_antenna_scale = flag->front() != 0;
+    c.antenna_scale_statistic = doubles("antenna_scale_statistic", 1).at(0);
+    c.antenna_scale_threshold = doubles("antenna_scale_threshold", 1).at(0);
+  } else {
+    c.per_antenna_scale = std::any_of(c.antenna_scale.begin(), c.antenna_scale.end(),
+                                      [&](double s) { return s != c.scale; });
   }
   return c;
 }

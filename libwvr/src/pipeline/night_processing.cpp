@@ -164,7 +164,7 @@ std::string calibration_processing_key(const CalibrationOptions& o) {
   return KeyText()
       .add("form",
            o.form == ScalingSolveForm::kAntennaPhases ? "antenna phases" : "baseline phases")
-      .add("per_antenna_scale", o.per_antenna_scale)
+      .add("antenna_scaling", to_string(o.antenna_scaling))
       .add("antenna_scale_prior_sigma", o.antenna_scale_prior_sigma)
       .add("segment_s", o.segment_s)
       .add("reference_antenna", o.reference_antenna)

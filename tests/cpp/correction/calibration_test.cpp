@@ -317,9 +317,40 @@ TEST(Calibration, BadInputIsSkippedOrReported) {
   EXPECT_THROW(solve_scaling(s.night, s.paths, s.factor, bad), InvalidInput);
 }
 
+// The default scaling, chosen by the data: one scale for the array on a night whose radiometers
+// agree (this night has no gain errors; measured statistic 11.7 against the threshold 61.2),
+// one per antenna when one radiometer's path is 10 % low (measured 1131 against 61.2).
+TEST(Calibration, TheDataKeepOneScaleWhenTheRadiometersAgree) {
+  const Solved s = solve(230.0);
+  ASSERT_TRUE(s.calibration.ok());
+  ASSERT_TRUE(std::isfinite(s.calibration.antenna_scale_statistic));
+  EXPECT_LT(s.calibration.antenna_scale_statistic, s.calibration.antenna_scale_threshold);
+  EXPECT_FALSE(s.calibration.per_antenna_scale);
+  for (double scale : s.calibration.antenna_scale) EXPECT_EQ(scale, s.calibration.scale);
+}
+
+TEST(Calibration, TheDataChooseAScalePerAntennaWhenOneRadiometerReadsLow) {
+  Solved s = solve(230.0);
+  const std::size_t nt = s.paths.time_s.size();
+  for (std::size_t k = 0; k < nt; ++k) s.paths.path_mm[3 * nt + k] /= 1.1;
+  const CalibrationResult chosen = solve_scaling(s.night, s.paths, s.factor);
+  ASSERT_TRUE(chosen.ok());
+  EXPECT_GT(chosen.antenna_scale_statistic, chosen.antenna_scale_threshold);
+  EXPECT_TRUE(chosen.per_antenna_scale);
+  // Measured 1.066: the prior N(array scale, 0.1) pulls the antenna towards the array.
+  EXPECT_NEAR(chosen.antenna_scale[3] / chosen.scale, 1.1, 0.05);
+  // Forced to one scale: no test, and every antenna at the array scale.
+  CalibrationOptions one;
+  one.antenna_scaling = AntennaScaling::kOneForArray;
+  const CalibrationResult forced = solve_scaling(s.night, s.paths, s.factor, one);
+  EXPECT_FALSE(forced.per_antenna_scale);
+  EXPECT_TRUE(std::isnan(forced.antenna_scale_statistic));
+  EXPECT_EQ(forced.antenna_scale[3], forced.scale);
+}
+
 TEST(Calibration, PerAntennaScalesStayNearTheArrayScale) {
   CalibrationOptions options;
-  options.per_antenna_scale = true;
+  options.antenna_scaling = AntennaScaling::kPerAntenna;
   const Solved s = solve(230.0, "", options);
   ASSERT_TRUE(s.calibration.ok());
   for (std::size_t a = 0; a < s.night.antenna_count(); ++a) {

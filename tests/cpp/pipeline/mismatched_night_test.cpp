@@ -36,6 +36,7 @@ struct NightFigures {
   double pwv_array_error = 0.0;   // worst over windows of |median over antennas of the error|
   double improvement = 0.0;       // phase rms before / after correction
   std::string floor;
+  std::string calibration;            // the scaling solve's brief report
   double chi2_per_dof_thermal = 0.0;  // median retrieval chi2/dof against thermal noise alone
 };
 
@@ -97,6 +98,7 @@ NightFigures process(const Scenario& scenario) {
   measure_pwv(night, r.retrieval, f);
   f.improvement = r.metrics->improvement_factor;
   f.floor = r.diagnosis->radiometer_floor.describe();
+  f.calibration = r.calibration->brief_report();
   f.chi2_per_dof_thermal = r.diagnosis->radiometer_floor.chi2_per_dof_thermal;
   return f;
 }
@@ -110,7 +112,7 @@ void print(const std::string& title, const NightFigures& f) {
             << title << ": window PWV off by median " << 100.0 * f.pwv_median_error << " %, worst "
             << 100.0 * f.pwv_worst_error << " %; array (median over antennas) at most "
             << 100.0 * f.pwv_array_error << " %\n"
-            << title << ": improvement " << f.improvement << "\n"
+            << title << ": improvement " << f.improvement << "; " << f.calibration << "\n"
             << title << ": " << f.floor << "\n";
 }
 
@@ -158,13 +160,42 @@ TEST(MismatchedNight, VerdictsWindPwvAndImprovementHoldBesideTheMatchedNight) {
   // corrected 1/0.988 | 1/0.988, cloud 1/1 | 1/1, dry turbulence 0.95/1 | 0.95/1, radiometer
   // fault 1/1 | 1/1; wind 9.26 m/s towards 75.7 deg on both (truth 9.22 m/s towards 77.5 deg);
   // array PWV (median over antennas of each window's error) off by at most 0.02 % | 2.0 %;
-  // improvement 4.35 | 4.15 (ratio 0.95). Other seeds: DISABLED_TargetsHoldOverSeeds.
+  // improvement 4.75 | 4.69 (ratio 0.99; the scaling solve keeps a scale per antenna on both
+  // nights, test statistic 322 | 1086 against the threshold 76). Other seeds:
+  // DISABLED_TargetsHoldOverSeeds.
   const MatchedAndMismatched both = process_both(31);
   // The mismatch is real: against thermal noise alone the residual is far above chi2/dof 1
   // (measured 0.92 | 2020).
   EXPECT_LT(both.matched.chi2_per_dof_thermal, 2.0);
   EXPECT_GT(both.mismatched.chi2_per_dof_thermal, 100.0);
   expect_targets(both);
+}
+
+// The improvement at seeds 34 and 35, the two farthest from the target with one scale for the
+// array (seed 31 above; 32 and 33 in DISABLED_TargetsHoldOverSeeds, to keep this test near
+// 10 s), up to the correction only. Measured ratio mismatched / matched over seeds 31-35: 0.987,
+// 0.995, 1.019, 1.001, 0.995: the radiometers' gains (3.5 % rms) scale each antenna's path
+// differently, and the scaling solve keeps a scale per antenna when the calibrator residuals
+// show it (on every mismatched night, test statistic 499-1086 against thresholds 72-76). With
+// one scale for the array the ratios were 0.95, 0.89, 0.90, 0.83, 0.82. Bound 0.95: the lowest
+// measured ratio less three times the spread over seeds (rms 0.012), above every one-scale
+// ratio; the target is 0.9.
+TEST(MismatchedNight, ImprovementHoldsBesideTheMatchedNightOverSeeds) {
+  for (std::uint64_t seed = 34; seed <= 35; ++seed) {
+    Scenario mismatched = load_scenario(test::testdata("scenarios/mismatched-episodes.toml"));
+    mismatched.seed = seed;
+    Scenario matched = mismatched;
+    matched.true_sky = TrueSky{};
+    NightProcessingOptions options;
+    options.last_stage = NightStage::kCorrection;
+    const NightProcessingResult m = process_night(simulate_night(matched), options);
+    const NightProcessingResult x = process_night(simulate_night(mismatched), options);
+    const double ratio = x.metrics->improvement_factor / m.metrics->improvement_factor;
+    std::cout << "seed " << seed << ": improvement " << m.metrics->improvement_factor << " | "
+              << x.metrics->improvement_factor << " (ratio " << ratio << "); "
+              << m.calibration->brief_report() << " | " << x.calibration->brief_report() << "\n";
+    EXPECT_GE(ratio, 0.95) << "seed " << seed;
+  }
 }
 
 TEST(MismatchedNight, DISABLED_EveryAntennasPwvWithinFivePercent) {
@@ -181,10 +212,10 @@ TEST(MismatchedNight, DISABLED_EveryAntennasPwvWithinFivePercent) {
 
 TEST(MismatchedNight, DISABLED_TargetsHoldOverSeeds) {
   // The targets over seeds 31-35 (about 30 s). Missed, measured matched | mismatched:
-  // - improvement ratio mismatched / matched 0.95, 0.89, 0.90, 0.83, 0.82: gains a few per cent
-  //   apart scale each antenna's radiometer path differently and the default scaling solve
-  //   fits one scale for the array. With CalibrationOptions::per_antenna_scale on both nights
-  //   the ratios are 0.99, 1.00, 1.00, 1.00, 0.99 (improvement 4.75 | 4.69 at seed 31);
+  // - improvement ratio mismatched / matched: met since the scaling solve chooses a scale per
+  //   antenna when the data show it (0.987, 0.995, 1.019, 1.001, 0.995; with one scale for the
+  //   array 0.95, 0.89, 0.90, 0.83, 0.82), enabled in ImprovementHoldsBesideTheMatchedNight-
+  //   OverSeeds;
   // - radiometer fault precision 1 | 1, 0.96 | 0.96, 0.93 | 0.78, 0.96 | 0.77, 0.96 | 0.81 and
   //   recall 1, 0.85, 0.96, 0.88, 0.85 on both nights alike (a spiking unit missed in some of
   //   its scans). The mismatched nights' extra flags are "channels inconsistent": at the

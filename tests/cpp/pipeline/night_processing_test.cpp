@@ -143,7 +143,7 @@ TEST(NightProcessing, StoredStagesAreReusedOnlyWhenTheyMatch) {
   // Other calibration options: solved again.
   NightProcessingOptions per_antenna = options;
   per_antenna.calibration = CalibrationOptions{};
-  per_antenna.calibration->per_antenna_scale = true;
+  per_antenna.calibration->antenna_scaling = AntennaScaling::kPerAntenna;
   const NightProcessingResult solved = process_night(night, per_antenna);
   EXPECT_TRUE(solved.retrieval_reused);
   EXPECT_FALSE(solved.calibration_reused);

@@ -51,6 +51,22 @@ TEST(ResultGroupReaders, TheGroupsOfAProcessedNightReadBack) {
   EXPECT_EQ(cal.scale, r.calibration->scale);
   EXPECT_EQ(cal.status, r.calibration->status);
   EXPECT_EQ(cal.antenna_scale, r.calibration->antenna_scale);
+  EXPECT_EQ(cal.per_antenna_scale, r.calibration->per_antenna_scale);
+  EXPECT_EQ(cal.antenna_scale_statistic, r.calibration->antenna_scale_statistic);
+  EXPECT_EQ(cal.antenna_scale_threshold, r.calibration->antenna_scale_threshold);
+  // A group written before the scaling was chosen per night: per-antenna when the antenna
+  // scales differ.
+  ResultGroup earlier = *calibration;
+  std::erase_if(earlier.datasets, [](const ResultDataset& dataset) {
+    return dataset.name == "per_antenna_scale" || dataset.name == "antenna_scale_statistic" ||
+           dataset.name == "antenna_scale_threshold";
+  });
+  const CalibrationResult earlier_cal =
+      calibration_from_result_group(earlier, night.antenna_count(), "test");
+  EXPECT_TRUE(std::isnan(earlier_cal.antenna_scale_statistic));
+  EXPECT_EQ(earlier_cal.per_antenna_scale,
+            std::any_of(cal.antenna_scale.begin(), cal.antenna_scale.end(),
+                        [&](double s) { return s != cal.scale; }));
 
   ResultGroup broken = *diagnosis;
   std::erase_if(broken.datasets,

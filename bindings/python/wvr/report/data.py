@@ -87,6 +87,9 @@ def _calibration_section(calibration):
         "message": calibration.message,
         "scale": _number(calibration.scale),
         "scale_sigma": _number(calibration.scale_sigma),
+        "per_antenna_scale": bool(calibration.per_antenna_scale),
+        "antenna_scale_statistic": _number(calibration.antenna_scale_statistic),
+        "antenna_scale_threshold": _number(calibration.antenna_scale_threshold),
         "rows_used": int(calibration.rows_used),
         "rows_skipped": int(calibration.rows_skipped),
     }

@@ -142,6 +142,16 @@ def _story(d, tag):
     return '<p class="story" id="what-happened">' + " ".join(s for s in sentences if s) + "</p>"
 
 
+def _scaling_clause(calibration, tag, num):
+    """Which scaling the solve kept and, when the data chose it, the test's numbers."""
+    kept = "one per antenna" if calibration["per_antenna_scale"] else "one for the array"
+    if calibration["antenna_scale_statistic"] is None:
+        return f" ({kept}, as asked)"
+    return (f" ({kept}: the per-antenna fit's test statistic "
+            f"{num('calibration.antenna_scale_statistic')} against the threshold "
+            f"{num('calibration.antenna_scale_threshold')})")
+
+
 def _correction_sentence(d, tag, num):
     correction, calibration = d["correction"], d["calibration"]
     if correction is None:
@@ -151,7 +161,8 @@ def _correction_sentence(d, tag, num):
                  f"{tag('calibration.message')}; scale left at {num('calibration.scale')}).")
     elif calibration is not None:
         scale = (f" with a path-to-phase scale of {num('calibration.scale')} "
-                 f"&plusmn; {tag('calibration.scale_sigma', digits=2)}")
+                 f"&plusmn; {tag('calibration.scale_sigma', digits=2)}"
+                 f"{_scaling_clause(calibration, tag, num)}")
     else:
         scale = ""
     if correction["phase_rms_before_deg"] is None or correction["phase_rms_after_deg"] is None:
