@@ -103,6 +103,14 @@ def test_rerun_recognises_measurement_sets_by_content(archive, surveyed):
     assert (again.skipped, again.processed) == (3, 0), again.text()
 
 
+def flip_a_data_byte(table_directory):
+    """Flips one bit in the middle of the first data file of a casacore table directory."""
+    data_file = sorted(table_directory.glob("table.f*"))[0]
+    data = bytearray(data_file.read_bytes())
+    data[len(data) // 2] ^= 0x01
+    data_file.write_bytes(bytes(data))
+
+
 def test_content_hash_follows_the_data_not_the_lock_file(archive, tmp_path):
     copy = tmp_path / "copy.ms"
     shutil.copytree(archive / "night-301.ms", copy)
@@ -110,10 +118,7 @@ def test_content_hash_follows_the_data_not_the_lock_file(archive, tmp_path):
     assert original == wvr.survey.content_sha256(archive / "night-301.ms")
     (copy / "table.lock").write_bytes(b"another program held this table")
     assert wvr.survey.content_sha256(copy) == original
-    data_file = sorted(copy.glob("table.f*"))[0]
-    data = bytearray(data_file.read_bytes())
-    data[len(data) // 2] ^= 0x01
-    data_file.write_bytes(bytes(data))
+    flip_a_data_byte(copy)
     assert wvr.survey.content_sha256(copy) != original
 
 
@@ -127,10 +132,7 @@ def test_symlinked_subtables_are_hashed_through_the_link(archive, tmp_path):
     (copy / "ANTENNA").symlink_to(elsewhere, target_is_directory=True)
     original = wvr.survey.content_sha256(archive / "night-301.ms")
     assert wvr.survey.content_sha256(copy) == original
-    data_file = sorted(elsewhere.glob("table.f*"))[0]
-    data = bytearray(data_file.read_bytes())
-    data[len(data) // 2] ^= 0x01
-    data_file.write_bytes(bytes(data))
+    flip_a_data_byte(elsewhere)
     assert wvr.survey.content_sha256(copy) != original
 
 
