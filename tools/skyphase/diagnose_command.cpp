@@ -91,6 +91,7 @@ DiagnosedNight diagnose_and_write(const CommonOptions& o) {
                            {"model_error_k", floor.model_error_k},
                            {"systematic_window_s", floor.systematic_window_s},
                            {"slow_common_rms_k", json_number(floor.slow_common_rms_k)},
+                           {"antenna_drift_rms_k", json_number(floor.antenna_drift_rms_k)},
                            {"chi2_per_dof_thermal", json_number(floor.chi2_per_dof_thermal)},
                            {"chi2_per_dof_floor", json_number(floor.chi2_per_dof_floor)},
                            {"antennas", model_error}};

@@ -132,8 +132,11 @@ struct RadiometerFloor {
   std::vector<double> systematic_offset_k;    // [antenna, channel], median residual over the night
   // [antenna, channel] residual per mm of path change (K/mm): channel gains that differ
   std::vector<double> path_response_k_per_mm;
-  double systematic_window_s = 0.0;   // span of the slow array-common part
-  double slow_common_rms_k = 0.0;     // rms over windows and channels of that slow part
+  double systematic_window_s = 0.0;  // span of the slow array-common part
+  double slow_common_rms_k = 0.0;    // rms over windows and channels of that slow part
+  // rms over antennas, windows and channels of each unit's slow drift (running median over the
+  // same span): taken out of the evidence and judged against the array's drifts instead
+  double antenna_drift_rms_k = 0.0;
   double chi2_per_dof_thermal = 0.0;  // median retrieval chi2/dof against thermal noise alone
   double chi2_per_dof_floor = 0.0;    // median chi2/dof after the systematic part, vs the floor
   std::string describe() const;       // one line with the numbers

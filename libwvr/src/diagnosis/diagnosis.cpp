@@ -204,6 +204,8 @@ NightDiagnosis diagnose_night(const Night& night,
   // (a larger gain error) is not a fault; up to half the fault ratio is allowed for it.
   std::vector<std::vector<double>> scan_chi2(night.scans.size(), std::vector<double>(na));
   std::vector<double> usual_level(na, 1.0);
+  // And the median chi2 of each antenna's slow drift in every scan.
+  std::vector<std::vector<double>> scan_drift_chi2(night.scans.size(), std::vector<double>(na));
   {
     std::vector<std::vector<double>> relative(na);
     for (std::size_t s = 0; s < night.scans.size(); ++s) {
@@ -212,6 +214,10 @@ NightDiagnosis diagnose_night(const Night& night,
       for (std::size_t a = 0; a < na; ++a) {
         antenna_radiometer_faults(night, r, evidence.chi2_per_dof, a, k0, k1, std::nan(""), th,
                                   scan_chi2[s][a]);
+        const auto drift =
+            evidence.drift_chi2_per_dof.begin() + static_cast<std::ptrdiff_t>(a * nt);
+        scan_drift_chi2[s][a] = detail::finite_median(std::vector<double>(
+            drift + static_cast<std::ptrdiff_t>(k0), drift + static_cast<std::ptrdiff_t>(k1)));
       }
       const double array_chi2 = detail::finite_median(scan_chi2[s]);
       for (std::size_t a = 0; a < na; ++a) relative[a].push_back(scan_chi2[s][a] / array_chi2);
@@ -237,11 +243,19 @@ NightDiagnosis diagnose_night(const Night& night,
     // antenna allowed its own usual level.
     const std::vector<double>& chi2 = scan_chi2[s];
     const double array_chi2 = detail::finite_median(chi2);
+    const double array_drift_chi2 = detail::finite_median(scan_drift_chi2[s]);
     double unused = 0.0;
     std::size_t cloudy = 0, judged = 0;
     for (std::size_t a = 0; a < na; ++a) {
       w.antenna_faults[a] = antenna_radiometer_faults(night, r, evidence.chi2_per_dof, a, k0, k1,
                                                       array_chi2 * usual_level[a], th, unused);
+      // A unit whose slow drift (taken out of the evidence above) stands out from the array's
+      // as a short excursion would.
+      const double drift_chi2 = scan_drift_chi2[s][a];
+      if (drift_chi2 > th.fault_chi2_ratio * array_drift_chi2 &&
+          drift_chi2 > 0.5 * th.cloud_chi2_per_dof) {
+        w.antenna_faults[a] |= kFaultInconsistent;
+      }
       if (std::isfinite(chi2[a])) {
         ++judged;
         if (chi2[a] > th.cloud_chi2_per_dof) ++cloudy;

@@ -25,6 +25,9 @@ struct ResidualEvidence {
   // [antenna, time]: chi2/dof of the residual after its systematic part, against thermal noise
   // plus model error (dof = channels - 1); NaN where the sample or its window is unusable.
   std::vector<double> chi2_per_dof;
+  // [antenna, time]: chi2/dof of the unit's slow drift (taken out of chi2_per_dof) against the
+  // same floor; NaN where chi2_per_dof is.
+  std::vector<double> drift_chi2_per_dof;
 };
 
 // Systematic part: per antenna and channel the median over the night's retrieval windows of
@@ -35,7 +38,10 @@ struct ResidualEvidence {
 // faulty unit) cover less than half of any of these medians and stay in the remainder.
 // Model error per antenna and channel: the robust (median-based) rms of the per-sample
 // remainder over the night, less its thermal part, floored at zero (a cloud or a fault
-// covering less than half of the night does not raise it).
+// covering less than half of the night does not raise it). Then per antenna and channel the
+// slow drift of the remainder (its running median over `systematic_window_s`, without the
+// windows where the array's remainder stands out) is taken out of chi2_per_dof and given apart
+// in drift_chi2_per_dof, for the diagnosis to judge against the array's drifts.
 ResidualEvidence residual_evidence(const Night& night,
                                    const NightRetrieval& retrieval,
                                    double systematic_window_s);

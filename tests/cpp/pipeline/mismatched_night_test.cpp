@@ -198,6 +198,76 @@ TEST(MismatchedNight, ImprovementHoldsBesideTheMatchedNightOverSeeds) {
   }
 }
 
+// Precision and recall of the antenna flags raised on radiometer evidence alone (no data,
+// stuck channel, spikes, channels inconsistent), scored as "radiometer fault" is: the flags from
+// the calibrator phases (residual worse than neighbours) are left out.
+test::ClassScore radiometer_evidence_score(const Night& night, const NightDiagnosis& diagnosis) {
+  NightDiagnosis radiometer_only = diagnosis;
+  for (WindowDiagnosis& w : radiometer_only.windows)
+    for (std::uint8_t& f : w.antenna_faults) f &= static_cast<std::uint8_t>(~kFaultWorseResidual);
+  return test::score_verdicts(night, radiometer_only).at("radiometer fault");
+}
+
+TEST(MismatchedNight, HealthyUnitsDriftingAsUsualAreNotFaults) {
+  // Each unit's calibration drifts slowly (0.1 K/h and 0.2 %/h rms here); with only a constant
+  // per antenna and channel taken out of the residual, the drift flagged healthy units as
+  // "channels inconsistent" at the night's ends. Measured on the mismatched nights of seeds 31-35,
+  // precision | recall of the flags raised on radiometer evidence, with the drift left in:
+  // 1 | 1, 0.96 | 0.85, 0.86 | 0.96, 0.85 | 0.88, 0.81 | 0.85; taken out (and judged against the
+  // array's drifts): 1 | 1, 0.96 | 0.85, 0.96 | 0.96, 0.96 | 0.88, 0.92 | 0.85
+  // (DISABLED_RadiometerEvidenceOverSeeds). Seed 34 here.
+  Scenario scenario = load_scenario(test::testdata("scenarios/mismatched-episodes.toml"));
+  scenario.seed = 34;
+  const Night night = simulate_night(scenario);
+  const NightProcessingResult r = process_night(night, NightProcessingOptions{});
+  const test::ClassScore score = radiometer_evidence_score(night, *r.diagnosis);
+  std::cout << "radiometer evidence: precision " << score.precision() << ", recall "
+            << score.recall() << "; " << r.diagnosis->radiometer_floor.describe() << "\n";
+  EXPECT_GE(score.actual, 20);
+  EXPECT_GE(score.precision(), 0.9);
+  EXPECT_GE(score.recall(), 0.85);
+}
+
+TEST(MismatchedNight, AUnitWhoseGainDriftsFarMoreThanTheOthersIsStillFlagged) {
+  // The slow drift taken out of the residual must not hide a unit that drifts far beyond the
+  // array's usual drift: one whose gain rises by 5 % per hour over the second hour. Measured,
+  // scans flagged of the 60 in that hour: 21 with the drift left in the residual, 0 with it
+  // taken out and not judged, 15 judged against the array's drifts (from 6270 s on; the first
+  // half hour is within the array's spread of gains).
+  Scenario scenario = load_scenario(test::testdata("scenarios/mismatched-episodes.toml"));
+  RadiometerFault fault;
+  fault.antenna = 7;
+  fault.kind = FaultKind::kGainDrift;
+  fault.start_s = 3600.0;
+  fault.stop_s = 7200.0;
+  fault.magnitude = 0.05;
+  scenario.faults.push_back(fault);
+  NightProcessingOptions options;
+  const NightProcessingResult r = process_night(simulate_night(scenario), options);
+  int scans = 0, flagged = 0;
+  for (const WindowDiagnosis& w : r.diagnosis->windows) {
+    if (w.start_s < fault.start_s) continue;
+    ++scans;
+    if (w.antenna_faults[7] & kFaultInconsistent) ++flagged;
+  }
+  std::cout << "drifting unit flagged in " << flagged << " of " << scans << " scans\n";
+  EXPECT_EQ(scans, 60);
+  EXPECT_GE(flagged, 10);
+}
+
+TEST(MismatchedNight, DISABLED_RadiometerEvidenceOverSeeds) {
+  for (std::uint64_t seed = 31; seed <= 35; ++seed) {
+    Scenario scenario = load_scenario(test::testdata("scenarios/mismatched-episodes.toml"));
+    scenario.seed = seed;
+    const Night night = simulate_night(scenario);
+    const NightProcessingResult r = process_night(night, NightProcessingOptions{});
+    const test::ClassScore score = radiometer_evidence_score(night, *r.diagnosis);
+    std::cout << "seed " << seed << ": radiometer evidence: precision " << score.precision()
+              << ", recall " << score.recall() << " (" << score.hits << " of " << score.predicted
+              << " flags right, " << score.actual << " faulty)\n";
+  }
+}
+
 TEST(MismatchedNight, DISABLED_EveryAntennasPwvWithinFivePercent) {
   // Missed: each antenna's window PWV (outside clouds and its faults) is off by up to 7.4 %
   // (median 3.5 %) on the mismatched night of seed 31, 0.07 % on the matched one; over seeds
@@ -216,13 +286,14 @@ TEST(MismatchedNight, DISABLED_TargetsHoldOverSeeds) {
   //   antenna when the data show it (0.987, 0.995, 1.019, 1.001, 0.995; with one scale for the
   //   array 0.95, 0.89, 0.90, 0.83, 0.82), enabled in ImprovementHoldsBesideTheMatchedNight-
   //   OverSeeds;
-  // - radiometer fault precision 1 | 1, 0.96 | 0.96, 0.93 | 0.78, 0.96 | 0.77, 0.96 | 0.81 and
+  // - radiometer fault precision 1 | 1, 0.96 | 0.92, 0.93 | 0.89, 0.88 | 0.85, 0.96 | 0.88 and
   //   recall 1, 0.85, 0.96, 0.88, 0.85 on both nights alike (a spiking unit missed in some of
-  //   its scans). The mismatched nights' extra flags are "channels inconsistent": at the
-  //   night's ends from the units' calibration drift (they go when the scenario has none) and
-  //   in a few scans mid-night. A per-antenna linear drift (Theil-Sen) taken out of the
-  //   residual removed the first but lowered the floor so that more of the second appeared
-  //   (precision 0.90, 0.79, 0.76 at seeds 31-33); it is not used;
+  //   its scans). Before each unit's slow drift was taken out of the residual the mismatched
+  //   nights' precision was 1, 0.92, 0.81, 0.77, 0.79 ("channels inconsistent" at the night's
+  //   ends; HealthyUnitsDriftingAsUsualAreNotFaults). What is left: flags from the calibrator
+  //   phases (residual worse than neighbours) where the dry-turbulence episode starts and ends,
+  //   on matched nights alike (without them the mismatched precision is 1, 0.96, 0.96, 0.96,
+  //   0.92), and one or two "channels inconsistent" mid-night at seeds 32-35;
   // - dry turbulence recall 0.89 at seed 33 on both nights.
   // Met at every seed: corrected and cloud, wind (speed within 1.7 %, direction within 2.8
   // deg), array PWV (within 3.2 %).
