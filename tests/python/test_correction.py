@@ -97,9 +97,14 @@ def test_bad_input_names_the_field(wet_night, testdata):
         wvr.solve_scaling(night, retrieval, scenario.site, reference_antenna=99)
 
 
-def test_process_night_gives_every_stage_as_typed_results(wet_night):
+@pytest.fixture(scope="module")
+def processed(wet_night):
+    return wvr.process_night(wet_night[1], threads=2)
+
+
+def test_process_night_gives_every_stage_as_typed_results(wet_night, processed):
     scenario, night, _ = wet_night
-    r = wvr.process_night(night, threads=2)
+    r = processed
     assert r.site.source == "night record"  # simulated nights carry their site
     assert r.last_stage == "turbulence" and r.obs_freq_ghz == pytest.approx(230.0)
     assert r.calibration.ok and r.metrics.phase_rms_after_deg < r.metrics.phase_rms_before_deg
@@ -127,3 +132,26 @@ def test_process_night_gives_every_stage_as_typed_results(wet_night):
     thresholds.cloud_chi2_per_dof = 1e5
     relaxed = wvr.process_night(night, thresholds=thresholds, last_stage="diagnosis", threads=2)
     assert relaxed.diagnosis.thresholds.cloud_chi2_per_dof == 1e5
+
+
+# Properties of the typed results that their result groups do not store.
+NOT_STORED = {
+    "retrieval": {"antennas", "samples", "channels", "windows", "seconds", "summary",
+                  "to_result_group"},
+    "calibration": {"status", "ok", "message", "rows_used", "rows_skipped", "brief_report"},
+}
+
+
+@pytest.mark.parametrize("stage", sorted(NOT_STORED))
+def test_typed_results_hold_exactly_the_fields_of_their_result_groups(processed, stage):
+    # Group and properties follow from one field table per result type: every stored dataset
+    # is a property with the same values, and every other property is a known unstored one.
+    typed = getattr(processed, stage)
+    group = next(g for g in processed.result_groups if g.stage == stage)
+    properties = {name for name in dir(type(typed)) if not name.startswith("_")}
+    assert properties - NOT_STORED[stage] == set(group.keys())
+    for name in group.keys():
+        value = getattr(typed, name)
+        if isinstance(value, np.ndarray):
+            assert not value.flags.writeable, name
+        np.testing.assert_array_equal(value, group[name], err_msg=name)

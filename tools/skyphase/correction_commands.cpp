@@ -4,6 +4,8 @@
 #include <iostream>
 #include <memory>
 #include <nlohmann/json.hpp>
+#include <type_traits>
+#include <variant>
 
 #include "commands.hpp"
 #include "output.hpp"
@@ -22,24 +24,24 @@ namespace {
 
 void print_summary(const wvr::Night& night,
                    const wvr::NightProcessingResult& result,
-                   std::span<const double> antenna_scale,
-                   std::span<const double> antenna_scale_sigma,
-                   double scale,
-                   double scale_sigma,
-                   bool calibrated,
                    const std::string& status,
                    const std::string& output,
                    Format format) {
+  const wvr::CalibrationResult& c = *result.calibration;
   const wvr::CorrectionMetrics& m = *result.metrics;
   if (format == Format::kJson) {
     nlohmann::ordered_json j;
-    j["scale"] = scale;
-    j["scale_sigma"] = scale_sigma;
-    j["calibrated"] = calibrated;
-    // Which scaling the solve kept and the test that chose it (null when forced).
-    j["per_antenna_scale"] = result.calibration->per_antenna_scale;
-    j["antenna_scale_statistic"] = result.calibration->antenna_scale_statistic;
-    j["antenna_scale_threshold"] = result.calibration->antenna_scale_threshold;
+    // The calibration's scalar fields from its table (wvr/calibration.hpp): the scale, which
+    // scaling the solve kept and the test that chose it (NaN, written null, when forced).
+    for (const wvr::ResultArrayField<wvr::CalibrationResult>& field : wvr::calibration_fields()) {
+      std::visit(
+          [&](auto member) {
+            if constexpr (std::is_arithmetic_v<std::decay_t<decltype(c.*member)>>)
+              j[field.name] = c.*member;
+          },
+          field.member);
+    }
+    j["calibrated"] = c.ok();
     j["status"] = status;
     j["phase_rms_before_deg"] = m.phase_rms_before_deg;
     j["phase_rms_after_deg"] = m.phase_rms_after_deg;
@@ -51,8 +53,8 @@ void print_summary(const wvr::Night& night,
     for (std::size_t a = 0; a < night.antenna_count(); ++a) {
       const wvr::AntennaMetrics& am = m.antennas[a];
       antennas.push_back({{"antenna", night.array.antenna_names[a]},
-                          {"scale", antenna_scale[a]},
-                          {"scale_sigma", antenna_scale_sigma[a]},
+                          {"scale", c.antenna_scale[a]},
+                          {"scale_sigma", c.antenna_scale_sigma[a]},
                           {"phase_rms_before_deg", am.rms_before_deg},
                           {"phase_rms_after_deg", am.rms_after_deg},
                           {"improvement_factor", am.improvement_factor},
@@ -65,8 +67,8 @@ void print_summary(const wvr::Night& night,
     print_json(j);
     return;
   }
-  std::cout << "scale " << with_uncertainty(scale, scale_sigma)
-            << (calibrated ? "" : " (the scaling solve failed: corrections use scale 1)") << " ["
+  std::cout << "scale " << with_uncertainty(c.scale, c.scale_sigma)
+            << (c.ok() ? "" : " (the scaling solve failed: corrections use scale 1)") << " ["
             << status << "]\n"
             << "calibrator phase rms (median over " << m.baselines.size()
             << " baselines): " << fixed(m.phase_rms_before_deg, 2) << " deg before, "
@@ -98,19 +100,18 @@ void run_calibrate(const CalibrateOptions& o) {
   options.require_calibration = true;
   options.validate();
   const Processed p = process_and_write(o.common, options);
-  const wvr::CalibrationResult& c = *p.result.calibration;
   if (o.common.format != Format::kJson) print_notes(p.result);
-  print_summary(p.night, p.result, c.antenna_scale, c.antenna_scale_sigma, c.scale, c.scale_sigma,
-                c.ok(), c.brief_report(), o.common.output_file, o.common.format);
+  print_summary(p.night, p.result, p.result.calibration->brief_report(), o.common.output_file,
+                o.common.format);
 }
 
 void run_correct(const CommonOptions& o) {
   const Processed p = process_and_write(o, processing_options(o, wvr::NightStage::kCorrection));
-  const wvr::CalibrationResult& c = *p.result.calibration;
   if (o.format != Format::kJson) print_notes(p.result);
-  print_summary(p.night, p.result, c.antenna_scale, c.antenna_scale_sigma, c.scale, c.scale_sigma,
-                c.ok(), p.result.calibration_reused ? "calibration applied" : c.brief_report(),
-                o.output_file, o.format);
+  print_summary(
+      p.night, p.result,
+      p.result.calibration_reused ? "calibration applied" : p.result.calibration->brief_report(),
+      o.output_file, o.format);
 }
 
 }  // namespace

@@ -10,6 +10,7 @@
 
 #include "arrays.hpp"
 #include "common.hpp"
+#include "result_fields.hpp"
 #include "wvr/error.hpp"
 
 namespace wvr::python {
@@ -280,26 +281,18 @@ void export_correction_types(py::module_& m) {
       .def_property_readonly("flags",
                              view<AntennaPaths, std::uint8_t>(&AntennaPaths::flags, antenna_time),
                              "[antenna, time], 0 = usable");
-  py::class_<CalibrationResult>(m, "CalibrationResult", "Scaling solve against calibrator phases.")
-      .def_property_readonly("status",
-                             [](const CalibrationResult& c) { return to_string(c.status); })
-      .def_property_readonly("ok", &CalibrationResult::ok)
-      .def_readonly("message", &CalibrationResult::message)
-      .def_readonly("scale", &CalibrationResult::scale)
-      .def_readonly("scale_sigma", &CalibrationResult::scale_sigma)
-      .def_property_readonly("antenna_scale", view_1d(&CalibrationResult::antenna_scale))
-      .def_property_readonly("antenna_scale_sigma",
-                             view_1d(&CalibrationResult::antenna_scale_sigma))
-      .def_property_readonly("segment_start_s", view_1d(&CalibrationResult::segment_start_s))
-      .def_property_readonly("segment_scale", view_1d(&CalibrationResult::segment_scale))
-      .def_property_readonly("segment_scale_sigma",
-                             view_1d(&CalibrationResult::segment_scale_sigma))
-      .def_readonly("per_antenna_scale", &CalibrationResult::per_antenna_scale)
-      .def_readonly("antenna_scale_statistic", &CalibrationResult::antenna_scale_statistic)
-      .def_readonly("antenna_scale_threshold", &CalibrationResult::antenna_scale_threshold)
-      .def_readonly("rows_used", &CalibrationResult::rows_used)
-      .def_readonly("rows_skipped", &CalibrationResult::rows_skipped)
-      .def("brief_report", &CalibrationResult::brief_report);
+  auto calibration =
+      py::class_<CalibrationResult>(m, "CalibrationResult",
+                                    "Scaling solve against calibrator phases.")
+          .def_property_readonly("status",
+                                 [](const CalibrationResult& c) { return to_string(c.status); })
+          .def_property_readonly("ok", &CalibrationResult::ok)
+          .def_readonly("message", &CalibrationResult::message)
+          .def_readonly("rows_used", &CalibrationResult::rows_used)
+          .def_readonly("rows_skipped", &CalibrationResult::rows_skipped)
+          .def("brief_report", &CalibrationResult::brief_report);
+  // The stored fields from the one field table (wvr/calibration.hpp).
+  bind_result_fields(calibration, calibration_fields(), "a antennas, s segments");
   py::class_<BaselineMetrics>(m, "BaselineMetrics", "Calibrator phase statistics of one baseline.")
       .def_readonly("antenna_a", &BaselineMetrics::antenna_a)
       .def_readonly("antenna_b", &BaselineMetrics::antenna_b)

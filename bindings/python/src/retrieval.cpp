@@ -17,6 +17,7 @@
 
 #include "arrays.hpp"
 #include "common.hpp"
+#include "result_fields.hpp"
 #include "wvr/error.hpp"
 #include "wvr/night_retrieval.hpp"
 #include "wvr/night_site.hpp"
@@ -355,21 +356,6 @@ constexpr std::array<std::pair<RetrievalFlag, const char*>, 6> kFlagNames = {{
     {kFlagNoValidSamples, "NO_VALID_SAMPLES"},
 }};
 
-py::ssize_t extent(std::size_t n) { return static_cast<py::ssize_t>(n); }
-
-// A read-only view of one NightRetrieval series with axes named by `axes` (a = antennas,
-// t = samples, w = windows, c = channels).
-template <typename T>
-auto retrieval_view(std::vector<T> NightRetrieval::*member, const char* axes) {
-  return [member, axes](const py::object& self) {
-    const NightRetrieval& r = self.cast<const NightRetrieval&>();
-    std::vector<py::ssize_t> shape;
-    for (const char* axis = axes; *axis != '\0'; ++axis)
-      shape.push_back(extent(axis_extent(r, *axis)));
-    return read_only_view(r.*member, shape, self);
-  };
-}
-
 py::dict retrieval_summary(const NightRetrieval& retrieval) {
   const NightRetrievalSummary s = summarize(retrieval);
   py::dict d;
@@ -618,16 +604,8 @@ chi2_per_dof_median and path_sensitivity_k_per_mm [C] (K/mm, median over antenna
             return out.str();
           });
   // Every array from the one field table (wvr/night_retrieval.hpp), as a read-only view.
-  for (const ResultArrayField<NightRetrieval>& field : night_retrieval_fields()) {
-    const std::string doc = std::string(field.meaning) + " [" + field.axes + "] (" + field.units +
-                            "); axes: a antennas, t samples, w windows, c channels.";
-    std::visit(
-        [&](auto member) {
-          night_retrieval.def_property_readonly(field.name, retrieval_view(member, field.axes),
-                                                doc.c_str());
-        },
-        field.member);
-  }
+  bind_result_fields(night_retrieval, night_retrieval_fields(),
+                     "a antennas, t samples, w windows, c channels");
 
   m.def("retrieve_night", &retrieve, py::arg("night"), py::arg("site") = py::none(), py::kw_only(),
         py::arg("coefficient_window_s") = 60.0, py::arg("fit_liquid") = false,

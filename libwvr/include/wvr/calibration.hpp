@@ -30,11 +30,13 @@
 
 #include <cmath>
 #include <functional>
+#include <span>
 #include <string>
 #include <vector>
 
 #include "wvr/dispersion.hpp"
 #include "wvr/night.hpp"
+#include "wvr/result_fields.hpp"
 
 namespace wvr {
 
@@ -108,6 +110,12 @@ struct CalibrationResult {
   bool ok() const { return status == CalibrationStatus::kConverged; }
   std::string brief_report() const;
 };
+
+// The fields of a calibration stored in its result group (wvr/correction.hpp) and bound in
+// Python; axes: a antennas, s segments. status and brief_report() are the group's attributes;
+// the solver's counters are not stored.
+std::span<const ResultArrayField<CalibrationResult>> calibration_fields();
+std::size_t axis_extent(const CalibrationResult& calibration, char axis);
 
 // Solves the scaling. `phase_per_path(freq_ghz)` gives the wet phase-per-path (dispersion)
 // factor at a calibrator frequency. Rows with unknown antennas, non-finite phases, or times

@@ -5,7 +5,6 @@
 #include <cmath>
 #include <map>
 #include <numbers>
-#include <optional>
 
 #include "core/statistics.hpp"
 #include "wvr/constants.hpp"
@@ -324,82 +323,6 @@ CorrectionMetrics evaluate_correction(const Night& night,
   m.coherence_after = detail::finite_median(ca);
   m.improvement_factor = m.phase_rms_before_deg / m.phase_rms_after_deg;
   return m;
-}
-
-ResultGroup calibration_result_group(const CalibrationResult& c) {
-  ResultGroup g;
-  g.stage = "calibration";
-  g.attributes["status"] = to_string(c.status);
-  g.attributes["report"] = c.brief_report();
-  const std::size_t na = c.antenna_scale.size(), ns = c.segment_scale.size();
-  g.datasets.push_back({"scale", {}, std::vector<double>{c.scale}, "1", {}});
-  g.datasets.push_back({"scale_sigma", {}, std::vector<double>{c.scale_sigma}, "1", {}});
-  g.datasets.push_back({"antenna_scale", {na}, c.antenna_scale, "1", {}});
-  g.datasets.push_back({"antenna_scale_sigma", {na}, c.antenna_scale_sigma, "1", {}});
-  g.datasets.push_back({"segment_start_s", {ns}, c.segment_start_s, "s", {}});
-  g.datasets.push_back({"segment_scale", {ns}, c.segment_scale, "1", {}});
-  g.datasets.push_back({"segment_scale_sigma", {ns}, c.segment_scale_sigma, "1", {}});
-  g.datasets.push_back({"per_antenna_scale",
-                        {},
-                        std::vector<std::uint8_t>{static_cast<std::uint8_t>(c.per_antenna_scale)},
-                        "1",
-                        {}});
-  g.datasets.push_back(
-      {"antenna_scale_statistic", {}, std::vector<double>{c.antenna_scale_statistic}, "1", {}});
-  g.datasets.push_back(
-      {"antenna_scale_threshold", {}, std::vector<double>{c.antenna_scale_threshold}, "1", {}});
-  return g;
-}
-
-CalibrationResult calibration_from_result_group(const ResultGroup& group,
-                                                std::size_t antennas,
-                                                const std::string& source) {
-  const std::string where = source + ": /results/" + group.stage + "/";
-  const auto doubles = [&](const char* name, std::optional<std::size_t> size) {
-    const ResultDataset* d = group.find(name);
-    if (d == nullptr) throw InvalidInput(where + name + " is missing");
-    const auto* values = std::get_if<std::vector<double>>(&d->values);
-    if (values == nullptr) throw InvalidInput(where + name + " is not double");
-    if (size && values->size() != *size)
-      throw InvalidInput(where + name + " has " + std::to_string(values->size()) +
-                         " values, expected " + std::to_string(*size));
-    return *values;
-  };
-  CalibrationResult c;
-  const auto status = group.attributes.find("status");
-  c.status = CalibrationStatus::kNoData;
-  if (status != group.attributes.end()) {
-    for (CalibrationStatus s : {CalibrationStatus::kConverged, CalibrationStatus::kNoConvergence,
-                                CalibrationStatus::kNoData, CalibrationStatus::kSolverFailure})
-      if (status->second == to_string(s)) c.status = s;
-  } else {
-    c.status = CalibrationStatus::kConverged;  // early files recorded no status
-  }
-  const auto report = group.attributes.find("report");
-  if (report != group.attributes.end()) c.message = report->second;
-  c.scale = doubles("scale", 1).at(0);
-  c.scale_sigma = doubles("scale_sigma", 1).at(0);
-  c.antenna_scale = doubles("antenna_scale", antennas);
-  c.antenna_scale_sigma = doubles("antenna_scale_sigma", antennas);
-  if (group.find("segment_scale") != nullptr) {
-    c.segment_start_s = doubles("segment_start_s", std::nullopt);
-    c.segment_scale = doubles("segment_scale", c.segment_start_s.size());
-    c.segment_scale_sigma = doubles("segment_scale_sigma", c.segment_start_s.size());
-  }
-  // Files written before the scaling was chosen per night hold neither: their per-antenna
-  // scale is told by antenna scales that differ.
-  if (const ResultDataset* d = group.find("per_antenna_scale")) {
-    const auto* flag = std::get_if<std::vector<std::uint8_t>>(&d->values);
-    if (flag == nullptr || flag->size() != 1)
-      throw InvalidInput(where + "per_antenna_scale is not one uint8");
-    c.per_antenna_scale = flag->front() != 0;
-    c.antenna_scale_statistic = doubles("antenna_scale_statistic", 1).at(0);
-    c.antenna_scale_threshold = doubles("antenna_scale_threshold", 1).at(0);
-  } else {
-    c.per_antenna_scale = std::any_of(c.antenna_scale.begin(), c.antenna_scale.end(),
-                                      [&](double s) { return s != c.scale; });
-  }
-  return c;
 }
 
 ResultGroup correction_result_group(const PhaseCorrections& p, const CorrectionMetrics& m) {
