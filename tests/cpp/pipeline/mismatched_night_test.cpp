@@ -215,7 +215,9 @@ TEST(MismatchedNight, HealthyUnitsDriftingAsUsualAreNotFaults) {
   // precision | recall of the flags raised on radiometer evidence, with the drift left in:
   // 1 | 1, 0.96 | 0.85, 0.86 | 0.96, 0.85 | 0.88, 0.81 | 0.85; taken out (and judged against the
   // array's drifts): 1 | 1, 0.96 | 0.85, 0.96 | 0.96, 0.96 | 0.88, 0.92 | 0.85
-  // (DISABLED_RadiometerEvidenceOverSeeds). Seed 34 here.
+  // (DISABLED_RadiometerEvidenceOverSeeds). Seed 34 here, bound 0.95 (the target is 0.9): one
+  // false flag in 24, where leaving the cloud's windows in the drift's running median gave two
+  // (0.92; 0.92, 0.88 at seeds 32 and 35).
   Scenario scenario = load_scenario(test::testdata("scenarios/mismatched-episodes.toml"));
   scenario.seed = 34;
   const Night night = simulate_night(scenario);
@@ -224,7 +226,7 @@ TEST(MismatchedNight, HealthyUnitsDriftingAsUsualAreNotFaults) {
   std::cout << "radiometer evidence: precision " << score.precision() << ", recall "
             << score.recall() << "; " << r.diagnosis->radiometer_floor.describe() << "\n";
   EXPECT_GE(score.actual, 20);
-  EXPECT_GE(score.precision(), 0.9);
+  EXPECT_GE(score.precision(), 0.95);
   EXPECT_GE(score.recall(), 0.85);
 }
 
