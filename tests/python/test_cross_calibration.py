@@ -72,6 +72,17 @@ def test_names_the_drifting_unit_relative_to_the_array(night):
     assert x["result_group"].stage == "cross_calibration"
 
 
+def test_applied_at_the_mean_sky_each_unit_is_shifted_by_one_value_per_channel(night):
+    x = wvr.cross_calibrate(night, apply=True, at_mean_sky=True)
+    shift = night.brightness_k - x["night"].brightness_k  # [antenna, time, channel]
+    assert np.allclose(shift, shift[:, :1, :], atol=1e-9)
+    # offset + (gain - 1) x the array's mean sky: the same mean sky for every unit of a channel.
+    mean_sky = (shift[:, 0, :] - x["offset_k"]) / (x["gain"] - 1.0)
+    assert np.allclose(mean_sky, mean_sky[0], rtol=1e-6)
+    with pytest.raises(wvr.WvrValueError, match="at_mean_sky"):
+        wvr.cross_calibrate(night, apply=True, include_drift=True, at_mean_sky=True)
+
+
 def test_bad_options_name_the_field(night):
     with pytest.raises(wvr.WvrValueError, match="block_s"):
         wvr.cross_calibrate(night, block_s=-1.0)
@@ -98,3 +109,12 @@ def test_skyphase_crosscal_json_and_corrected_night(tmp_path, scenario_text):
     bad = subprocess.run([SKYPHASE, "crosscal", str(night_file), "--block-s", "0"],
                          capture_output=True, text=True)
     assert bad.returncode == 2 and "block_s" in bad.stderr
+    at_mean_sky = tmp_path / "night-mean-sky.h5"
+    result = subprocess.run([SKYPHASE, "crosscal", str(night_file), "-o", str(at_mean_sky),
+                             "--at-mean-sky"], capture_output=True, text=True, timeout=120)
+    assert result.returncode == 0, result.stderr
+    shift = wvr.read_night(night_file).brightness_k - wvr.read_night(at_mean_sky).brightness_k
+    assert np.allclose(shift, shift[:, :1, :], atol=1e-9)
+    both = subprocess.run([SKYPHASE, "crosscal", str(night_file), "-o", str(tmp_path / "x.h5"),
+                           "--at-mean-sky", "--include-drift"], capture_output=True, text=True)
+    assert both.returncode == 2 and "include-drift" in both.stderr

@@ -17,6 +17,7 @@ struct CrosscalOptions {
   std::string output_file;  // empty: report only
   wvr::CrossCalibrationOptions solve;
   bool include_drift = false;
+  bool at_mean_sky = false;
   bool overwrite = false;
   Format format = Format::kTable;
 };
@@ -77,7 +78,8 @@ void run_crosscal(const CrosscalOptions& o) {
   const wvr::Night night = wvr::read_night(o.night_file);
   const wvr::CrossCalibration x = wvr::cross_calibrate(night, o.solve);
   if (!o.output_file.empty()) {
-    wvr::Night corrected = wvr::apply_cross_calibration(night, x, o.include_drift);
+    wvr::Night corrected = o.at_mean_sky ? wvr::apply_cross_calibration_at_mean_sky(night, x)
+                                         : wvr::apply_cross_calibration(night, x, o.include_drift);
     // Results computed from the uncorrected brightness no longer hold.
     corrected.results.clear();
     corrected.results.push_back(wvr::cross_calibration_result_group(x));
@@ -117,8 +119,14 @@ void add_crosscal_command(CLI::App& app) {
   cmd->add_option("--min-drift-k", o->solve.min_drift_k,
                   "Smallest change over the night called a drift (K)")
       ->capture_default_str();
-  cmd->add_flag("--include-drift", o->include_drift,
-                "Apply the drifting units' drift too when writing the corrected night");
+  CLI::Option* include_drift =
+      cmd->add_flag("--include-drift", o->include_drift,
+                    "Apply the drifting units' drift too when writing the corrected night");
+  cmd->add_flag("--at-mean-sky", o->at_mean_sky,
+                "Write the corrected night with each unit shifted by its reading at the array's "
+                "mean sky, offset + (gain - 1) x mean sky, instead of (T - offset) / gain: well "
+                "determined where the sky changes too little to separate offset and gain")
+      ->excludes(include_drift);
   cmd->add_flag("--overwrite", o->overwrite, "Replace an existing output file");
   add_format_option(*cmd, o->format);
   cmd->callback([o] { run_crosscal(*o); });

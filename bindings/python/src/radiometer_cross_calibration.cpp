@@ -5,6 +5,7 @@
 #include <pybind11/stl.h>
 
 #include "common.hpp"
+#include "wvr/error.hpp"
 
 namespace wvr::python {
 namespace {
@@ -23,7 +24,10 @@ py::dict cross_calibrate_night(const Night& night,
                                double gain_limit,
                                double min_drift_k,
                                bool apply,
-                               bool include_drift) {
+                               bool include_drift,
+                               bool at_mean_sky) {
+  if (include_drift && at_mean_sky)
+    throw InvalidInput("include_drift = true and at_mean_sky = true: choose one way to apply");
   CrossCalibrationOptions options;
   options.block_s = block_s;
   options.offset_limit_k = offset_limit_k;
@@ -34,7 +38,10 @@ py::dict cross_calibrate_night(const Night& night,
   {
     py::gil_scoped_release release;
     x = cross_calibrate(night, options);
-    if (apply) corrected = apply_cross_calibration(night, x, include_drift);
+    if (apply) {
+      corrected = at_mean_sky ? apply_cross_calibration_at_mean_sky(night, x)
+                              : apply_cross_calibration(night, x, include_drift);
+    }
   }
   py::dict d;
   d["reference"] = "relative to the array: mean offset 0 K, mean gain 1 per channel";
@@ -72,7 +79,8 @@ void export_radiometer_cross_calibration(py::module_& m) {
   m.def("cross_calibrate", &cross_calibrate_night, py::arg("night"), py::kw_only(),
         py::arg("block_s") = defaults.block_s, py::arg("offset_limit_k") = defaults.offset_limit_k,
         py::arg("gain_limit") = defaults.gain_limit, py::arg("min_drift_k") = defaults.min_drift_k,
-        py::arg("apply") = false, py::arg("include_drift") = false, R"doc(
+        py::arg("apply") = false, py::arg("include_drift") = false, py::arg("at_mean_sky") = false,
+        R"doc(
 Calibrates the night's radiometers against each other from block medians (block_s seconds):
 per unit and channel an offset (K) and a gain RELATIVE TO THE ARRAY (mean offset 0, mean gain 1
 over the units that do not drift), with 1-sigma uncertainties (a block jackknife over the
@@ -81,8 +89,10 @@ offset_k, offset_sigma_k, gain, gain_sigma, offset_drift_k_per_h, gain_drift_per
 drift_chi2, drift_change_k [antenna, channel]; disagrees, drifting, verdicts [antenna];
 flagged_units (names), block_mid_s, report, result_group (for add_result_group) and, with
 apply=True, night: a copy with T' = (T - offset) / gain (drifting units' drift too with
-include_drift=True). Raises WvrValueError for bad options or a night with fewer than 3
-antennas or 3 blocks.
+include_drift=True), or with at_mean_sky=True a copy with T' = T - (offset + (gain - 1) x the
+array's mean sky) (well determined where the sky changes too little to separate offset and
+gain). Raises WvrValueError for bad options, include_drift and at_mean_sky together, or a night
+with fewer than 3 antennas or 3 blocks.
 )doc");
 }
 

@@ -1548,6 +1548,7 @@ def cross_calibrate(
     min_drift_k: float = 0.2,  # K
     apply: bool = False,
     include_drift: bool = False,
+    at_mean_sky: bool = False,
 ) -> Dict[str, Any]: ...  # offset_k, gain [A, C] relative to the array, ..., flagged_units, night
 
 # --- sky dips --------------------------------------------------------------------------------

@@ -527,14 +527,23 @@ CrossCalibration cross_calibrate(const Night& night, const CrossCalibrationOptio
   return x;
 }
 
-Night apply_cross_calibration(const Night& night,
-                              const CrossCalibration& calibration,
-                              bool include_drift) {
-  const std::size_t na = night.antenna_count(), nt = night.time_count(), nc = night.channel_count();
+namespace {
+
+void require_matching_shape(const Night& night, const CrossCalibration& calibration) {
+  const std::size_t na = night.antenna_count(), nc = night.channel_count();
   if (calibration.antennas != na || calibration.channels != nc || calibration.units.size() != na)
     throw InvalidInput("cross-calibration has " + std::to_string(calibration.antennas) +
                        " antennas x " + std::to_string(calibration.channels) +
                        " channels, the night " + std::to_string(na) + " x " + std::to_string(nc));
+}
+
+}  // namespace
+
+Night apply_cross_calibration(const Night& night,
+                              const CrossCalibration& calibration,
+                              bool include_drift) {
+  const std::size_t na = night.antenna_count(), nt = night.time_count(), nc = night.channel_count();
+  require_matching_shape(night, calibration);
   Night out = night;
   for (std::size_t a = 0; a < na; ++a) {
     for (std::size_t c = 0; c < nc; ++c) {
@@ -553,6 +562,36 @@ Night apply_cross_calibration(const Night& night,
         double& v = out.radiometer.brightness_k[(a * nt + k) * nc + c];
         v = (v - offset) / gain;
       }
+    }
+  }
+  return out;
+}
+
+Night apply_cross_calibration_at_mean_sky(const Night& night, const CrossCalibration& calibration) {
+  const std::size_t na = night.antenna_count(), nt = night.time_count(), nc = night.channel_count();
+  require_matching_shape(night, calibration);
+  if (calibration.sky_k.size() != calibration.blocks * nc)
+    throw InvalidInput(
+        "cross-calibration's sky has " + std::to_string(calibration.sky_k.size()) +
+        " values, not blocks x channels = " + std::to_string(calibration.blocks * nc));
+  Night out = night;
+  for (std::size_t c = 0; c < nc; ++c) {
+    double sky_sum = 0.0;
+    std::size_t blocks = 0;
+    for (std::size_t b = 0; b < calibration.blocks; ++b) {
+      const double sky = calibration.sky_k[b * nc + c];
+      if (!std::isfinite(sky)) continue;
+      sky_sum += sky;
+      ++blocks;
+    }
+    if (blocks == 0) continue;  // the channel was not solved
+    const double mean_sky_k = sky_sum / static_cast<double>(blocks);
+    for (std::size_t a = 0; a < na; ++a) {
+      const ChannelCalibration& cal = calibration.units[a].channels[c];
+      if (!cal.solved) continue;
+      const double shift_k = cal.offset_k + (cal.gain - 1.0) * mean_sky_k;
+      for (std::size_t k = 0; k < nt; ++k)
+        out.radiometer.brightness_k[(a * nt + k) * nc + c] -= shift_k;
     }
   }
   return out;

@@ -6,6 +6,7 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <iostream>
 
 #include "crosscal/cross_calibration_night.hpp"
 #include "test_util.hpp"
@@ -181,6 +182,34 @@ TEST(RadiometerCrossCalibration, AppliedSolutionPutsEveryUnitOnTheArrayScale) {
   EXPECT_NE(corrected.radiometer.brightness_k, f.night.radiometer.brightness_k);
 }
 
+// At the mean sky: each unit's reading at the array's mean sky, o + (g - 1) mean(S), solved
+// again from the corrected night, is zero; the gains are left as they were.
+TEST(RadiometerCrossCalibration, AppliedAtTheMeanSkyEveryUnitReadsTheArraysMeanSky) {
+  const Fixture& f = fixture();
+  const CrossCalibration x = cross_calibrate(f.night);
+  const Night corrected = apply_cross_calibration_at_mean_sky(f.night, x);
+  const CrossCalibration again = cross_calibrate(corrected);
+  const std::size_t nc = again.channels;
+  double worst_k = 0.0;
+  for (std::size_t c = 0; c < nc; ++c) {
+    double mean_sky_k = 0.0;
+    for (std::size_t b = 0; b < again.blocks; ++b) mean_sky_k += again.sky_k[b * nc + c];
+    mean_sky_k /= static_cast<double>(again.blocks);
+    for (std::size_t a = 0; a < again.antennas; ++a) {
+      const ChannelCalibration& before = x.units[a].channels[c];
+      const ChannelCalibration& after = again.units[a].channels[c];
+      const double reading_k = after.offset_k + (after.gain - 1.0) * mean_sky_k;
+      worst_k = std::max(worst_k, std::abs(reading_k));
+      EXPECT_NEAR(after.gain, before.gain, 1e-3) << again.units[a].antenna;
+    }
+  }
+  std::cout << "worst reading at the mean sky after the shift: " << worst_k << " K\n";
+  EXPECT_LT(worst_k, 1e-3);
+  CrossCalibration wrong = x;
+  wrong.sky_k.pop_back();
+  EXPECT_THROW(apply_cross_calibration_at_mean_sky(f.night, wrong), InvalidInput);
+}
+
 TEST(RadiometerCrossCalibration, ResultGroupHoldsTheSolution) {
   const CrossCalibration x = cross_calibrate(fixture().night);
   const ResultGroup g = cross_calibration_result_group(x);
@@ -205,6 +234,7 @@ TEST(RadiometerCrossCalibration, RejectsBadInput) {
   CrossCalibration x = cross_calibrate(night);
   x.channels = 2;
   EXPECT_THROW(apply_cross_calibration(night, x), InvalidInput);
+  EXPECT_THROW(apply_cross_calibration_at_mean_sky(night, x), InvalidInput);
 }
 
 }  // namespace
