@@ -141,6 +141,13 @@ def test_the_whole_chain_and_the_report(tmp_path):
     night = tmp_path / "night.h5"
     run("simulate", str(small_demo_scenario(tmp_path)), "-o", str(night))
     before = night.read_bytes()
+    inspected = json.loads(run("inspect", str(night), "--format", "json").stdout)
+    assert list(inspected) == [
+        "file", "time_epoch_utc", "antennas", "antenna_names", "antenna_valid_fraction", "channels",
+        "samples", "start_s", "stop_s", "duration_s", "median_cadence_s", "gaps", "valid_fraction",
+        "calibrator_scans", "target_scans", "weather_samples", "calibrator_phase_rows", "truth",
+        "result_groups"]
+    assert inspected["antennas"] == 30 and inspected["gaps"] == [] and inspected["truth"] is True
     summary = json.loads(run("correct", str(night), "-o", str(tmp_path / "corrected.h5"), "--site", SITE,
                              "--format", "json").stdout)
     for key in ("scale", "scale_sigma", "per_antenna_scale", "antenna_scale_statistic", "antenna_scale_threshold",

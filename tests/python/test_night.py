@@ -481,6 +481,17 @@ def test_summary_counts_gaps_and_invalid_samples(radiometer_183):
     np.testing.assert_allclose(s["antenna_valid_fraction"], [1.0, 1.0 - 4.0 / 50.0, 1.0])
 
 
+def test_every_summary_key_is_documented_and_read_back_by_its_own_name(small_night):
+    # Dict, docstring and reader all follow from the summary's one field table.
+    s = wvr.summarize_night(small_night)
+    for key in s:
+        assert f"{key} (" in wvr.summarize_night.__doc__, key
+        with pytest.raises(wvr.WvrValueError, match=f"summary is missing '{key}'"):
+            wvr.format_night_summary({k: v for k, v in s.items() if k != key})
+        with pytest.raises(wvr.WvrValueError, match=re.escape(f"summary['{key}']")):
+            wvr.format_night_summary({**s, key: object()})
+
+
 def test_format_night_summary_takes_a_night_or_its_summary(small_night):
     text = wvr.format_night_summary(small_night)
     assert text == wvr.format_night_summary(wvr.summarize_night(small_night))

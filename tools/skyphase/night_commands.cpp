@@ -3,10 +3,13 @@
 #include <iostream>
 #include <memory>
 #include <nlohmann/json.hpp>
+#include <type_traits>
+#include <variant>
 
 #include "commands.hpp"
 #include "output.hpp"
 #include "wvr/night_file.hpp"
+#include "wvr/night_summary_fields.hpp"
 #include "wvr/scenario.hpp"
 #include "wvr/simulator.hpp"
 
@@ -73,27 +76,23 @@ void run_inspect(const InspectOptions& o) {
   }
   nlohmann::ordered_json j;
   j["file"] = o.file;
-  j["time_epoch_utc"] = s.time_epoch_utc;
-  j["antennas"] = s.antenna_count;
-  j["antenna_names"] = s.antenna_names;
-  j["antenna_valid_fraction"] = s.antenna_valid_fraction;
-  j["channels"] = s.channel_names;
-  j["samples"] = s.time_count;
-  j["start_s"] = s.start_s;
-  j["stop_s"] = s.stop_s;
-  j["duration_s"] = s.duration_s;
-  j["median_cadence_s"] = s.median_cadence_s;
-  nlohmann::ordered_json gaps = nlohmann::ordered_json::array();
-  for (const wvr::NightGap& g : s.gaps)
-    gaps.push_back({{"start_s", g.start_s}, {"stop_s", g.stop_s}});
-  j["gaps"] = gaps;
-  j["valid_fraction"] = s.valid_fraction;
-  j["calibrator_scans"] = s.calibrator_scan_count;
-  j["target_scans"] = s.target_scan_count;
-  j["weather_samples"] = s.weather_count;
-  j["calibrator_phase_rows"] = s.calibrator_phase_count;
-  j["truth"] = s.has_truth;
-  j["result_groups"] = s.result_stages;
+  // Every field of the summary's table under its JSON name (wvr/night_summary_fields.hpp).
+  for (const wvr::NightSummaryField& field : wvr::night_summary_fields()) {
+    if (field.json_name == nullptr) continue;
+    std::visit(
+        [&](auto member) {
+          const auto& value = s.*member;
+          if constexpr (std::is_same_v<std::decay_t<decltype(value)>, std::vector<wvr::NightGap>>) {
+            nlohmann::ordered_json gaps = nlohmann::ordered_json::array();
+            for (const wvr::NightGap& g : value)
+              gaps.push_back({{"start_s", g.start_s}, {"stop_s", g.stop_s}});
+            j[field.json_name] = gaps;
+          } else {
+            j[field.json_name] = value;
+          }
+        },
+        field.member);
+  }
   print_json(j);
 }
 

@@ -12,11 +12,11 @@
 #include <array>
 #include <cmath>
 #include <cstdint>
-#include <initializer_list>
 #include <limits>
 #include <set>
 #include <sstream>
 #include <string>
+#include <string_view>
 #include <utility>
 #include <variant>
 #include <vector>
@@ -25,6 +25,7 @@
 #include "common.hpp"
 #include "wvr/error.hpp"
 #include "wvr/night_file.hpp"
+#include "wvr/night_summary_fields.hpp"
 
 namespace wvr::python {
 namespace {
@@ -55,8 +56,8 @@ std::string bracketed(std::size_t i) {
 // `object` as a dict with every key of `required`, optionally keys of `optional`, and no other.
 py::dict dict_with_keys(const py::handle& object,
                         const std::string& name,
-                        std::initializer_list<const char*> required,
-                        std::initializer_list<const char*> optional = {}) {
+                        const std::vector<const char*>& required,
+                        const std::vector<const char*>& optional = {}) {
   if (!py::isinstance<py::dict>(object)) throw InvalidInput(name + ": expected a dict");
   const auto d = py::reinterpret_borrow<py::dict>(object);
   std::set<std::string> known;
@@ -527,85 +528,90 @@ std::string describe_night(const Night& night) {
 
 // --- summaries ------------------------------------------------------------------------------
 
-py::dict summary_to_dict(const NightSummary& s) {
-  py::dict d;
-  d["time_epoch_utc"] = s.time_epoch_utc;
-  d["antenna_count"] = s.antenna_count;
-  d["channel_count"] = s.channel_count;
-  d["channel_names"] = s.channel_names;
-  d["time_count"] = s.time_count;
-  d["start_s"] = s.start_s;
-  d["stop_s"] = s.stop_s;
-  d["duration_s"] = s.duration_s;
-  d["median_cadence_s"] = s.median_cadence_s;
-  py::list gaps;
-  for (const NightGap& gap : s.gaps) {
+// Summary values as Python objects: arrays as read-only numpy copies, gaps as dicts.
+py::object summary_value(const std::vector<double>& values) { return read_only_array(values); }
+py::object summary_value(const std::vector<NightGap>& gaps) {
+  py::list out;
+  for (const NightGap& gap : gaps) {
     py::dict g;
     g["start_s"] = gap.start_s;
     g["stop_s"] = gap.stop_s;
-    gaps.append(g);
+    out.append(g);
   }
-  d["gaps"] = gaps;
-  d["valid_fraction"] = s.valid_fraction;
-  d["antenna_names"] = s.antenna_names;
-  d["antenna_valid_fraction"] = read_only_array(s.antenna_valid_fraction);
-  d["calibrator_scan_count"] = s.calibrator_scan_count;
-  d["target_scan_count"] = s.target_scan_count;
-  d["weather_count"] = s.weather_count;
-  d["calibrator_phase_count"] = s.calibrator_phase_count;
-  d["has_truth"] = s.has_truth;
-  d["result_stages"] = s.result_stages;
+  return out;
+}
+template <typename T>
+py::object summary_value(const T& value) {
+  return py::cast(value);
+}
+
+// Summary values from Python objects; errors name the key `at`.
+void read_summary_value(const py::handle& v, const std::string& at, std::string& out) {
+  out = text_of(v, at);
+}
+void read_summary_value(const py::handle& v, const std::string& at, std::size_t& out) {
+  out = static_cast<std::size_t>(integer_of(v, at, 0, std::numeric_limits<std::int64_t>::max()));
+}
+void read_summary_value(const py::handle& v, const std::string& at, double& out) {
+  out = number_of(v, at);
+}
+void read_summary_value(const py::handle& v, const std::string& at, bool& out) {
+  if (!py::isinstance<py::bool_>(v)) throw InvalidInput(at + ": expected a bool");
+  out = v.cast<bool>();
+}
+void read_summary_value(const py::handle& v, const std::string& at, std::vector<std::string>& out) {
+  out = texts_of(v, at);
+}
+void read_summary_value(const py::handle& v, const std::string& at, std::vector<double>& out) {
+  out = doubles_of_shape(v, at, {-1}, "[n]");
+}
+void read_summary_value(const py::handle& v, const std::string& at, std::vector<NightGap>& out) {
+  if (!py::isinstance<py::list>(v)) throw InvalidInput(at + ": expected a list");
+  for (const py::handle gap : v) {
+    const std::string item = at + "[" + std::to_string(out.size()) + "]";
+    const py::dict g = dict_with_keys(gap, item, {"start_s", "stop_s"});
+    out.push_back({number_of(g["start_s"], item + "['start_s']"),
+                   number_of(g["stop_s"], item + "['stop_s']")});
+  }
+}
+
+// Every field of the summary's table (wvr/night_summary_fields.hpp), both ways.
+py::dict summary_to_dict(const NightSummary& s) {
+  py::dict d;
+  for (const NightSummaryField& field : night_summary_fields())
+    std::visit([&](auto member) { d[field.name] = summary_value(s.*member); }, field.member);
   return d;
 }
 
-std::size_t count_of(const py::dict& d, const char* key) {
-  return static_cast<std::size_t>(integer_of(d[key], std::string("summary['") + key + "']", 0,
-                                             std::numeric_limits<std::int64_t>::max()));
-}
-
-double number_in(const py::dict& d, const char* key) {
-  return number_of(d[key], std::string("summary['") + key + "']");
-}
-
 NightSummary summary_from_dict(const py::handle& object) {
-  const py::dict d = dict_with_keys(
-      object, "summary",
-      {"time_epoch_utc", "antenna_count", "channel_count", "channel_names", "time_count", "start_s",
-       "stop_s", "duration_s", "median_cadence_s", "gaps", "valid_fraction", "antenna_names",
-       "antenna_valid_fraction", "calibrator_scan_count", "target_scan_count", "weather_count",
-       "calibrator_phase_count", "has_truth", "result_stages"});
+  std::vector<const char*> keys;
+  for (const NightSummaryField& field : night_summary_fields()) keys.push_back(field.name);
+  const py::dict d = dict_with_keys(object, "summary", keys);
   NightSummary s;
-  s.time_epoch_utc = text_of(d["time_epoch_utc"], "summary['time_epoch_utc']");
-  s.antenna_count = count_of(d, "antenna_count");
-  s.channel_count = count_of(d, "channel_count");
-  s.channel_names = texts_of(d["channel_names"], "summary['channel_names']");
-  s.time_count = count_of(d, "time_count");
-  s.start_s = number_in(d, "start_s");
-  s.stop_s = number_in(d, "stop_s");
-  s.duration_s = number_in(d, "duration_s");
-  s.median_cadence_s = number_in(d, "median_cadence_s");
-  const py::handle gaps = d["gaps"];
-  if (!py::isinstance<py::list>(gaps)) throw InvalidInput("summary['gaps']: expected a list");
-  for (const py::handle gap : gaps) {
-    const std::string at = "summary['gaps'][" + std::to_string(s.gaps.size()) + "]";
-    const py::dict g = dict_with_keys(gap, at, {"start_s", "stop_s"});
-    s.gaps.push_back(
-        {number_of(g["start_s"], at + "['start_s']"), number_of(g["stop_s"], at + "['stop_s']")});
+  for (const NightSummaryField& field : night_summary_fields()) {
+    std::visit(
+        [&](auto member) {
+          read_summary_value(d[field.name], std::string("summary['") + field.name + "']",
+                             s.*member);
+        },
+        field.member);
   }
-  s.valid_fraction = number_in(d, "valid_fraction");
-  s.antenna_names = texts_of(d["antenna_names"], "summary['antenna_names']");
-  s.antenna_valid_fraction = doubles_of_shape(d["antenna_valid_fraction"],
-                                              "summary['antenna_valid_fraction']", {-1}, "[n]");
-  s.calibrator_scan_count = count_of(d, "calibrator_scan_count");
-  s.target_scan_count = count_of(d, "target_scan_count");
-  s.weather_count = count_of(d, "weather_count");
-  s.calibrator_phase_count = count_of(d, "calibrator_phase_count");
-  if (!py::isinstance<py::bool_>(d["has_truth"])) {
-    throw InvalidInput("summary['has_truth']: expected a bool");
-  }
-  s.has_truth = d["has_truth"].cast<bool>();
-  s.result_stages = texts_of(d["result_stages"], "summary['result_stages']");
   return s;
+}
+
+// The docstring of summarize_night: every field with its units and meaning.
+std::string summary_doc() {
+  std::ostringstream doc;
+  doc << "Numbers describing a night, a dict of";
+  const char* separator = ": ";
+  for (const NightSummaryField& field : night_summary_fields()) {
+    doc << separator << field.name << " (";
+    if (std::string_view(field.units) != "1") doc << field.units << ", ";
+    doc << field.meaning << ")";
+    separator = "; ";
+  }
+  doc << ".";
+  return doc.str();
 }
 
 NightWriteOptions write_options(bool overwrite, bool replace, int compression_level, int threads) {
@@ -941,15 +947,10 @@ name -> (array, units) or (array, units, attributes)) and attributes (dict of st
 wvr.ResultGroup takes them. overwrite: replace an existing output file; replace: replace an
 existing group of the same stage. Raises WvrValueError naming the file or dataset.
 )doc");
+  static const std::string summarize_doc = summary_doc();
   m.def(
       "summarize_night", [](const Night& night) { return summary_to_dict(summarize(night)); },
-      py::arg("night"), R"doc(
-Numbers describing a night: time_epoch_utc, antenna_count, channel_count, channel_names,
-time_count, start_s, stop_s, duration_s (s), median_cadence_s (s, 0 with fewer than 2
-samples), gaps (list of dicts start_s, stop_s: steps longer than 1.5 x the median cadence),
-valid_fraction, antenna_names, antenna_valid_fraction [A], calibrator_scan_count,
-target_scan_count, weather_count, calibrator_phase_count, has_truth, result_stages.
-)doc");
+      py::arg("night"), summarize_doc.c_str());
   m.def(
       "format_night_summary",
       [](const py::object& night_or_summary) {

@@ -21,6 +21,7 @@
 #include "wvr/night_processing.hpp"
 #include "wvr/night_retrieval.hpp"
 #include "wvr/night_site.hpp"
+#include "wvr/night_summary_fields.hpp"
 #include "wvr/night_turbulence.hpp"
 #include "wvr/observing_frequency.hpp"
 #include "wvr/path_model_uncertainty.hpp"

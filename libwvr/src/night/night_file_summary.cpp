@@ -8,8 +8,46 @@
 
 #include "night/night_file_detail.hpp"
 #include "wvr/night.hpp"
+#include "wvr/night_summary_fields.hpp"
 
 namespace wvr {
+
+std::span<const NightSummaryField> night_summary_fields() {
+  using S = NightSummary;
+  // In the order of the inspect JSON.
+  static const NightSummaryField fields[] = {
+      {"time_epoch_utc", &S::time_epoch_utc, "time_epoch_utc", "1",
+       "zero of the night's times (ISO 8601, UTC)"},
+      {"antenna_count", &S::antenna_count, "antennas", "1", "antennas of the array (A)"},
+      {"antenna_names", &S::antenna_names, "antenna_names", "1", "name of each antenna [A]"},
+      {"antenna_valid_fraction", &S::antenna_valid_fraction, "antenna_valid_fraction", "1",
+       "fraction of each antenna's samples valid in the file [A]"},
+      {"channel_count", &S::channel_count, nullptr, "1", "radiometer channels (C)"},
+      {"channel_names", &S::channel_names, "channels", "1", "name of each channel [C]"},
+      {"time_count", &S::time_count, "samples", "1", "radiometer samples per antenna (T)"},
+      {"start_s", &S::start_s, "start_s", "s", "first radiometer time"},
+      {"stop_s", &S::stop_s, "stop_s", "s", "last radiometer time"},
+      {"duration_s", &S::duration_s, "duration_s", "s", "stop_s - start_s"},
+      {"median_cadence_s", &S::median_cadence_s, "median_cadence_s", "s",
+       "median time step, 0 with fewer than 2 samples"},
+      {"gaps", &S::gaps, "gaps", "s",
+       "time steps longer than 1.5 x the median cadence, each start_s (last sample before) "
+       "and stop_s (first sample after)"},
+      {"valid_fraction", &S::valid_fraction, "valid_fraction", "1",
+       "fraction of all antenna x time samples valid in the file"},
+      {"calibrator_scan_count", &S::calibrator_scan_count, "calibrator_scans", "1",
+       "calibrator scans"},
+      {"target_scan_count", &S::target_scan_count, "target_scans", "1", "target scans"},
+      {"weather_count", &S::weather_count, "weather_samples", "1", "weather samples"},
+      {"calibrator_phase_count", &S::calibrator_phase_count, "calibrator_phase_rows", "1",
+       "calibrator phase rows"},
+      {"has_truth", &S::has_truth, "truth", "1",
+       "the night holds the atmosphere it was simulated with (/truth)"},
+      {"result_stages", &S::result_stages, "result_groups", "1",
+       "stage of each stored result group (/results)"},
+  };
+  return fields;
+}
 
 NightSummary summarize(const Night& night) {
   NightSummary summary;
