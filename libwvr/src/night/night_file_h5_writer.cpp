@@ -89,7 +89,13 @@ Writer::Writer(const std::filesystem::path& start_from,
   const std::string name =
       "wvr-in-memory-" + std::to_string(::getpid()) + "-" + std::to_string(counter++) + ".h5";
   if (start_from.empty()) {
-    file_ = Id(H5Fcreate(name.c_str(), H5F_ACC_TRUNC, H5P_DEFAULT, fapl.get()), H5Fclose);
+    // The root group without a modification time, as every group and dataset below it
+    // (create_group, checked_layout): the same night gives the same bytes whenever written.
+    Id fcpl(H5Pcreate(H5P_FILE_CREATE), H5Pclose);
+    if (H5Pset_obj_track_times(fcpl.get(), false) < 0) {
+      throw Error(with_cause(source_ + ": cannot be set up without modification times"));
+    }
+    file_ = Id(H5Fcreate(name.c_str(), H5F_ACC_TRUNC, fcpl.get(), fapl.get()), H5Fclose);
   } else {
     std::vector<char> bytes = file_bytes(start_from, source_);
     if (H5Pset_file_image(fapl.get(), bytes.data(), bytes.size()) < 0) {
@@ -108,6 +114,9 @@ void Writer::fail(const std::string& object_path, const std::string& what) const
 
 Id Writer::create_group(hid_t parent, const std::string& path, bool track_order) const {
   Id gcpl(H5Pcreate(H5P_GROUP_CREATE), H5Pclose);
+  // Without modification times in the object headers, the same night gives the same bytes
+  // whenever it is written (HDF5 stores them by default, to the second).
+  if (H5Pset_obj_track_times(gcpl.get(), false) < 0) fail(path, "cannot be set up without times");
   if (track_order &&
       H5Pset_link_creation_order(gcpl.get(), H5P_CRT_ORDER_TRACKED | H5P_CRT_ORDER_INDEXED) < 0) {
     fail(path, "cannot be set up to keep creation order");
@@ -200,6 +209,8 @@ Id Writer::checked_layout(const std::string& path,
                           const Shape& chunk,
                           bool compress) const {
   Id dcpl(H5Pcreate(H5P_DATASET_CREATE), H5Pclose);
+  // No modification times, as for groups (create_group): equal nights give equal bytes.
+  if (H5Pset_obj_track_times(dcpl.get(), false) < 0) fail(path, "cannot be set up without times");
   // Filters need chunked storage, which needs a simple dataspace with at least one element;
   // scalars and empty datasets stay contiguous (no values to protect in the latter).
   if (shape.empty() || element_count(shape) == 0) return dcpl;
