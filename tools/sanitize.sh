@@ -1,9 +1,11 @@
 #!/usr/bin/env bash
 # Sanitizer runs (run before landing a change to a reader, a writer or threaded code):
 #   tools/sanitize.sh           AddressSanitizer + UndefinedBehaviorSanitizer: the whole C++
-#                               suite, then the command-line tests (pytest) against the
-#                               sanitized skyphase. Build in ./build-asan.
-#   tools/sanitize.sh thread    ThreadSanitizer: the C++ tests that run threads. ./build-tsan.
+#                               suite, then every Python test that runs the skyphase program,
+#                               against the sanitized skyphase. Build in ./build-asan.
+#   tools/sanitize.sh thread    ThreadSanitizer: the C++ tests that run threads (retrieval,
+#                               simulation, calibration, the chunk writer, the night pipeline,
+#                               the wind's pairs, the slab jackknife). Build in ./build-tsan.
 # Any report fails the run (halt_on_error); the Python module used by the command-line tests is
 # the regular one in ./build (run tools/build.sh first).
 set -euo pipefail
@@ -37,15 +39,15 @@ case "$mode" in
     [ -d build/python/wvr ] || { echo "sanitize.sh: build/python is missing; run tools/build.sh first" >&2; exit 1; }
     PYTHONPATH=build/python WVR_TESTDATA_DIR="$PWD/testdata" \
       WVR_SKYPHASE="$PWD/build-asan/tools/skyphase" \
-      /usr/bin/python3 -m pytest -q -W error -p no:cacheprovider tests/python/test_cli.py \
-      tests/python/test_bad_input.py tests/python/test_nothing_usable.py
+      WVR_SKYPHASE_TESTS_ONLY=1 /usr/bin/python3 -m pytest -q -W error -p no:cacheprovider \
+      tests/python
     ;;
   thread)
     configure build-tsan thread
     cmake --build build-tsan -j"$(nproc)" --target wvr_tests
     export TSAN_OPTIONS=halt_on_error=1:second_deadlock_stack=1
     build-tsan/tests/wvr_tests --gtest_brief=1 \
-      --gtest_filter='*Thread*:*Parallel*:*Streaming*:*NightRetrieval*:*Simulator*:*Calibration*'
+      --gtest_filter='*Thread*:*Parallel*:*Streaming*:*NightRetrieval*:*Simulator*:*Calibration*:NightFileChunks.*:NightProcessing.*:StructureFunctionNight.WindPairs*:StructureFunctionNight.Jackknife*:StructureFunctionNight.RadiometerNoise*'
     ;;
   *)
     echo "usage: tools/sanitize.sh [address|thread]" >&2

@@ -164,3 +164,15 @@ def skyphase(request):
     if not os.access(path, os.X_OK):
         pytest.fail(f"WVR_SKYPHASE = {path} is not an executable program")
     return path
+
+
+def pytest_collection_modifyitems(config, items):
+    """WVR_SKYPHASE_TESTS_ONLY=1 keeps only the tests that run the skyphase program: the
+    sanitizer run (tools/sanitize.sh) points them at a sanitized build, while the Python module
+    stays the regular one, so the other tests would only repeat the regular run."""
+    if os.environ.get("WVR_SKYPHASE_TESTS_ONLY") != "1":
+        return
+    kept = [item for item in items if "skyphase" in getattr(item, "fixturenames", ())]
+    deselected = [item for item in items if "skyphase" not in getattr(item, "fixturenames", ())]
+    config.hook.pytest_deselected(items=deselected)
+    items[:] = kept
