@@ -172,7 +172,6 @@ def pytest_collection_modifyitems(config, items):
     stays the regular one, so the other tests would only repeat the regular run."""
     if os.environ.get("WVR_SKYPHASE_TESTS_ONLY") != "1":
         return
-    kept = [item for item in items if "skyphase" in getattr(item, "fixturenames", ())]
-    deselected = [item for item in items if "skyphase" not in getattr(item, "fixturenames", ())]
-    config.hook.pytest_deselected(items=deselected)
-    items[:] = kept
+    runs_skyphase = {item: "skyphase" in getattr(item, "fixturenames", ()) for item in items}
+    config.hook.pytest_deselected(items=[item for item in items if not runs_skyphase[item]])
+    items[:] = [item for item in items if runs_skyphase[item]]
