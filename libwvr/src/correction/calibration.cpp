@@ -815,15 +815,24 @@ CalibrationResult solve_scaling(const Night& night,
   const int threads = static_cast<int>(detail::worker_count(options.threads, 64));
   std::unique_ptr<ScalingFit> kept;
   if (options.antenna_scaling == AntennaScaling::kChosenByData) {
-    // Both fits, the per-antenna one from the array one's solution.
-    auto array = std::make_unique<ScalingFit>(fit, start, na, ref, false, options);
-    array->solve(threads);
+    // Both fits from the same start, side by side on the stage's threads (each solve spends
+    // its time in Ceres' per-residual bookkeeping, which more threads within one solve do not
+    // shorten). Starting the per-antenna fit from the array fit's solution would save it a few
+    // iterations but serialise the two; the same start keeps the result independent of the
+    // thread count.
+    std::unique_ptr<ScalingFit> array, per_antenna;
+    const auto fit_threads = static_cast<int>(std::max<std::size_t>(1, threads / 2));
+    detail::parallel_blocks(
+        2, detail::worker_count(threads, 2), [&](std::size_t begin, std::size_t end, std::size_t) {
+          for (std::size_t which = begin; which < end; ++which) {
+            auto solved = std::make_unique<ScalingFit>(fit, start, na, ref, which == 1, options);
+            solved->solve(fit_threads);
+            (which == 1 ? per_antenna : array) = std::move(solved);
+          }
+        });
     if (!array->usable()) {
       kept = std::move(array);
     } else {
-      auto per_antenna =
-          std::make_unique<ScalingFit>(fit, array->parameters(), na, ref, true, options);
-      per_antenna->solve(threads);
       // Independent rows: an AR(1) residual of lag-one correlation rho carries the information
       // of n (1 - rho) / (1 + rho) independent ones (common practice for correlated series).
       const double rho = std::clamp(per_antenna->lag_one_correlation(), 0.0, 0.999);
