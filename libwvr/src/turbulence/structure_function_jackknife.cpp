@@ -6,21 +6,22 @@
 #include <sstream>
 
 #include "core/parallel_for.hpp"
+#include "turbulence/radiometer_structure_without.hpp"
 #include "wvr/error.hpp"
 #include "wvr/structure_function.hpp"
 
 namespace wvr {
 namespace {
 
-// The baselines of every night pooled before binning, then fitted.
-SlabThicknessFit pooled_fit(std::span<const Night> nights,
-                            const std::vector<AntennaPaths>& paths,
-                            const SpatialStructureOptions& options,
+// Selection `j` of every night's structure functions, the baselines pooled before binning,
+// then fitted.
+SlabThicknessFit pooled_fit(const std::vector<std::vector<SpatialStructureResult>>& by_night,
+                            std::size_t j,
                             double bins_per_decade) {
   SpatialStructureResult pooled;
   std::string messages;
-  for (std::size_t i = 0; i < nights.size(); ++i) {
-    const SpatialStructureResult sf = radiometer_structure_function(nights[i], paths[i], options);
+  for (const std::vector<SpatialStructureResult>& night : by_night) {
+    const SpatialStructureResult& sf = night[j];
     if (!sf.ok()) {
       messages += (messages.empty() ? "" : "; ") + sf.message;
       continue;
@@ -61,47 +62,49 @@ NightSlabThickness pooled_slab_thickness(std::span<const Night> nights,
     throw InvalidInput("paths has " + std::to_string(paths.size()) + " entries for " +
                        std::to_string(nights.size()) + " nights");
   }
-  NightSlabThickness out;
-  out.fit = pooled_fit(nights, std::vector<AntennaPaths>(paths.begin(), paths.end()), options,
-                       bins_per_decade);
-  out.profile_low_m = out.fit.thickness_low_m;
-  out.profile_high_m = out.fit.thickness_high_m;
-  // A limit has no error bar to estimate.
-  if (!out.fit.ok() || out.fit.constraint != ThicknessConstraint::kMeasured) return out;
   // Delete-a-group jackknife (Quenouille 1956, Tukey 1958; textbook): the nights' samples, in
   // order, are cut into `groups` contiguous groups and the fit is repeated without each; the
   // spread of ln W over the refits, times sqrt((G - 1) / G) summed, estimates the error of
   // ln W from the sky's own sample variance, which the points' scatter about the model does
   // not see (the bins share one realisation of the screen and are strongly correlated).
+  // Selection 0 of each night keeps every sample; selection g + 1 leaves out the night's part
+  // of group g.
   std::size_t total = 0;
   for (const AntennaPaths& p : paths) total += p.time_s.size();
   const auto g_count = static_cast<std::size_t>(groups);
-  // Refits are independent: spread over threads, each with its own copy of the paths; a
-  // refit's slot holds its W, or NaN when it was dropped.
+  std::vector<std::vector<SpatialStructureResult>> by_night;
+  std::size_t offset = 0;
+  for (std::size_t n = 0; n < nights.size(); ++n) {
+    const std::size_t nt = paths[n].time_s.size();
+    std::vector<detail::SampleSpan> left_out(1 + g_count);
+    for (std::size_t g = 0; g < g_count; ++g) {
+      const std::size_t first = g * total / g_count, last = (g + 1) * total / g_count;
+      const std::size_t lo = std::max(first, offset), hi = std::min(last, offset + nt);
+      if (lo < hi) left_out[g + 1] = {lo - offset, hi - offset};
+    }
+    by_night.push_back(
+        detail::radiometer_structure_without(nights[n], paths[n], options, left_out));
+    offset += nt;
+  }
+  NightSlabThickness out;
+  out.fit = pooled_fit(by_night, 0, bins_per_decade);
+  out.profile_low_m = out.fit.thickness_low_m;
+  out.profile_high_m = out.fit.thickness_high_m;
+  // A limit has no error bar to estimate.
+  if (!out.fit.ok() || out.fit.constraint != ThicknessConstraint::kMeasured) return out;
+  // Refits are independent: spread over threads; a refit's slot holds its W, or NaN when it
+  // was dropped.
   std::vector<double> refit_thickness_m(g_count, std::nan(""));
-  detail::parallel_blocks(
-      g_count, detail::worker_count(options.threads, g_count),
-      [&](std::size_t begin, std::size_t end, std::size_t) {
-        std::vector<AntennaPaths> without(paths.begin(), paths.end());
-        for (std::size_t g = begin; g < end; ++g) {
-          const std::size_t first = g * total / g_count, last = (g + 1) * total / g_count;
-          std::size_t offset = 0;
-          for (std::size_t n = 0; n < without.size(); ++n) {
-            without[n].path_mm = paths[n].path_mm;
-            const std::size_t nt = paths[n].time_s.size();
-            const std::size_t lo = std::max(first, offset), hi = std::min(last, offset + nt);
-            for (std::size_t a = 0; a < without[n].antennas && lo < hi; ++a) {
-              for (std::size_t i = lo - offset; i < hi - offset; ++i)
-                without[n].path_mm[a * nt + i] = std::nan("");
-            }
-            offset += nt;
-          }
-          const SlabThicknessFit f = pooled_fit(nights, without, options, bins_per_decade);
-          // A refit that only gives a limit would bias the spread: dropped.
-          if (f.ok() && f.constraint == ThicknessConstraint::kMeasured)
-            refit_thickness_m[g] = f.thickness_m;
-        }
-      });
+  detail::parallel_blocks(g_count, detail::worker_count(options.threads, g_count),
+                          [&](std::size_t begin, std::size_t end, std::size_t) {
+                            for (std::size_t g = begin; g < end; ++g) {
+                              const SlabThicknessFit f =
+                                  pooled_fit(by_night, g + 1, bins_per_decade);
+                              // A refit that only gives a limit would bias the spread: dropped.
+                              if (f.ok() && f.constraint == ThicknessConstraint::kMeasured)
+                                refit_thickness_m[g] = f.thickness_m;
+                            }
+                          });
   std::vector<double> logs;
   for (double w : refit_thickness_m) {
     if (std::isnan(w)) {

@@ -8,7 +8,9 @@
 #include <numbers>
 #include <sstream>
 
+#include "core/parallel_for.hpp"
 #include "turbulence/calibrator_groups.hpp"
+#include "turbulence/radiometer_structure_without.hpp"
 #include "wvr/error.hpp"
 #include "wvr/structure_function.hpp"
 
@@ -148,9 +150,29 @@ SpatialStructureResult calibrator_structure_function(const Night& night,
   return finish(night, sums, skipped, "calibrator rows");
 }
 
-SpatialStructureResult radiometer_structure_function(const Night& night,
-                                                     const AntennaPaths& paths,
-                                                     const SpatialStructureOptions& options) {
+namespace detail {
+
+namespace {
+
+// A run of samples within one window and on one side of every left-out span's ends.
+struct Cell {
+  std::size_t window = 0, first = 0, last = 0;
+};
+
+// One pair's finite samples of a cell, summed about the cell's first one (shifted sums keep
+// the variance accurate).
+struct CellSums {
+  std::size_t count = 0, non_finite = 0;
+  double shift = 0.0, sum = 0.0, sum_sq = 0.0;
+};
+
+}  // namespace
+
+std::vector<SpatialStructureResult> radiometer_structure_without(
+    const Night& night,
+    const AntennaPaths& paths,
+    const SpatialStructureOptions& options,
+    std::span<const SampleSpan> left_out) {
   options.validate();
   const std::size_t na = paths.antennas;
   const std::size_t nt = paths.time_s.size();
@@ -159,6 +181,12 @@ SpatialStructureResult radiometer_structure_function(const Night& night,
                        std::to_string(nt) + " times with " + std::to_string(paths.path_mm.size()) +
                        " path_mm values do not match the night's " +
                        std::to_string(night.antenna_count()) + " antennas");
+  }
+  for (const SampleSpan& span : left_out) {
+    if (span.first > span.last || span.last > nt)
+      throw InvalidInput("left-out samples [" + std::to_string(span.first) + ", " +
+                         std::to_string(span.last) + ") are not within the night's " +
+                         std::to_string(nt) + " samples");
   }
   const std::vector<double>& noise_mm = options.antenna_path_noise_mm;
   if (!noise_mm.empty()) {
@@ -178,62 +206,129 @@ SpatialStructureResult radiometer_structure_function(const Night& night,
     const double s = noise_mm.empty() || !std::isfinite(noise_mm[a]) ? 0.0 : noise_mm[a] * 1e-3;
     return s * s;
   };
+  const std::size_t selections = left_out.size();
   if (na < 2) {
     SpatialStructureResult r;
     r.message = "fewer than two antennas: no baselines";
-    return r;
+    return std::vector<SpatialStructureResult>(selections, r);
   }
-  // Window index of every sample.
-  std::vector<std::size_t> window(nt, 0);
-  if (options.window_s > 0.0 && nt > 0) {
-    for (std::size_t k = 0; k < nt; ++k) {
-      window[k] = static_cast<std::size_t>(
-          std::max(0.0, std::floor((paths.time_s[k] - paths.time_s[0]) / options.window_s)));
-    }
+  // Cells: a new one wherever the window changes or a left-out span begins or ends.
+  std::vector<bool> cut(nt + 1, false);
+  for (const SampleSpan& span : left_out) {
+    cut[span.first] = true;
+    cut[span.last] = true;
   }
-  const std::size_t windows = nt > 0 ? window.back() + 1 : 0;
-  std::map<std::pair<int, int>, Accumulator> sums;
-  std::size_t skipped = 0;
-  std::vector<double> sum(windows), sum_sq(windows);
-  std::vector<std::size_t> count(windows);
-  for (std::size_t a = 0; a < na; ++a) {
-    for (std::size_t b = a + 1; b < na; ++b) {
-      std::fill(sum.begin(), sum.end(), 0.0);
-      std::fill(sum_sq.begin(), sum_sq.end(), 0.0);
-      std::fill(count.begin(), count.end(), 0);
-      const double* la = paths.path_mm.data() + a * nt;
-      const double* lb = paths.path_mm.data() + b * nt;
-      // Shifted sums about the first usable value keep the variance accurate.
-      std::vector<double> shift(windows, std::nan(""));
-      for (std::size_t k = 0; k < nt; ++k) {
-        const double d_m = (lb[k] - la[k]) * 1e-3;
-        if (!std::isfinite(d_m)) {
-          ++skipped;
-          continue;
+  std::vector<Cell> cells;
+  std::vector<std::size_t> cell_of(nt);
+  for (std::size_t k = 0; k < nt; ++k) {
+    const std::size_t window =
+        options.window_s > 0.0
+            ? static_cast<std::size_t>(
+                  std::max(0.0, std::floor((paths.time_s[k] - paths.time_s[0]) / options.window_s)))
+            : 0;
+    if (cells.empty() || cut[k] || window != cells.back().window) cells.push_back({window, k, k});
+    cells.back().last = k + 1;
+    cell_of[k] = cells.size() - 1;
+  }
+  // Pairs over threads; each pair's accumulator of each selection goes to its own slot.
+  std::vector<std::pair<std::size_t, std::size_t>> pairs;
+  for (std::size_t a = 0; a < na; ++a)
+    for (std::size_t b = a + 1; b < na; ++b) pairs.emplace_back(a, b);
+  std::vector<Accumulator> accumulated(selections * pairs.size());
+  const std::size_t workers = worker_count(options.threads, pairs.size());
+  std::vector<std::size_t> skipped(selections * workers, 0);
+  parallel_blocks(
+      pairs.size(), workers, [&](std::size_t begin, std::size_t end, std::size_t worker) {
+        std::vector<CellSums> sums(cells.size());
+        for (std::size_t p = begin; p < end; ++p) {
+          const auto [a, b] = pairs[p];
+          std::fill(sums.begin(), sums.end(), CellSums{});
+          const double* la = paths.path_mm.data() + a * nt;
+          const double* lb = paths.path_mm.data() + b * nt;
+          for (std::size_t k = 0; k < nt; ++k) {
+            const double d_m = (lb[k] - la[k]) * 1e-3;
+            CellSums& c = sums[cell_of[k]];
+            if (!std::isfinite(d_m)) {
+              ++c.non_finite;
+              continue;
+            }
+            if (c.count == 0) c.shift = d_m;
+            const double x = d_m - c.shift;
+            c.sum += x;
+            c.sum_sq += x * x;
+            ++c.count;
+          }
+          for (std::size_t j = 0; j < selections; ++j) {
+            const SampleSpan span = left_out[j];
+            std::size_t& skip = skipped[j * workers + worker];
+            Accumulator acc;
+            // A window's kept cells merged: count, mean and sum of squared deviations.
+            std::size_t n = 0;
+            double mean = 0.0, squares = 0.0;
+            auto close_window = [&]() {
+              if (n < options.min_samples) {
+                skip += n;
+              } else {
+                acc.sum_sq_m2 += std::max(0.0, squares);
+                acc.samples += n;
+                acc.segments += 1;
+              }
+              n = 0;
+              mean = squares = 0.0;
+            };
+            for (std::size_t c = 0; c < cells.size(); ++c) {
+              if (c > 0 && cells[c].window != cells[c - 1].window) close_window();
+              const CellSums& cs = sums[c];
+              if (cells[c].first >= span.first && cells[c].last <= span.last &&
+                  span.first < span.last) {
+                skip += cs.count + cs.non_finite;
+                continue;
+              }
+              skip += cs.non_finite;
+              if (cs.count == 0) continue;
+              const double m = static_cast<double>(cs.count);
+              const double cell_mean = cs.shift + cs.sum / m;
+              const double cell_squares = cs.sum_sq - cs.sum * cs.sum / m;
+              if (n == 0) {
+                mean = cell_mean;
+                squares = cell_squares;
+              } else {
+                const double total = static_cast<double>(n + cs.count);
+                const double delta = cell_mean - mean;
+                squares += cell_squares + delta * delta * static_cast<double>(n) * m / total;
+                mean += delta * m / total;
+              }
+              n += cs.count;
+            }
+            if (!cells.empty()) close_window();
+            acc.noise_m2 = noise_variance_m2(a) + noise_variance_m2(b);
+            accumulated[j * pairs.size() + p] = acc;
+          }
         }
-        const std::size_t w = window[k];
-        if (std::isnan(shift[w])) shift[w] = d_m;
-        const double x = d_m - shift[w];
-        sum[w] += x;
-        sum_sq[w] += x * x;
-        ++count[w];
-      }
-      Accumulator acc;
-      for (std::size_t w = 0; w < windows; ++w) {
-        if (count[w] < options.min_samples) {
-          skipped += count[w];
-          continue;
-        }
-        const double n = static_cast<double>(count[w]);
-        acc.sum_sq_m2 += std::max(0.0, sum_sq[w] - sum[w] * sum[w] / n);
-        acc.samples += count[w];
-        acc.segments += 1;
-      }
-      acc.noise_m2 = noise_variance_m2(a) + noise_variance_m2(b);
-      if (acc.segments > 0) sums[{static_cast<int>(a), static_cast<int>(b)}] = acc;
+      });
+  std::vector<SpatialStructureResult> results;
+  results.reserve(selections);
+  for (std::size_t j = 0; j < selections; ++j) {
+    std::map<std::pair<int, int>, Accumulator> by_pair;
+    for (std::size_t p = 0; p < pairs.size(); ++p) {
+      const Accumulator& acc = accumulated[j * pairs.size() + p];
+      if (acc.segments > 0)
+        by_pair[{static_cast<int>(pairs[p].first), static_cast<int>(pairs[p].second)}] = acc;
     }
+    std::size_t skipped_samples = 0;
+    for (std::size_t w = 0; w < workers; ++w) skipped_samples += skipped[j * workers + w];
+    results.push_back(finish(night, by_pair, skipped_samples, "radiometer samples"));
   }
-  return finish(night, sums, skipped, "radiometer samples");
+  return results;
+}
+
+}  // namespace detail
+
+SpatialStructureResult radiometer_structure_function(const Night& night,
+                                                     const AntennaPaths& paths,
+                                                     const SpatialStructureOptions& options) {
+  const detail::SampleSpan none;
+  return detail::radiometer_structure_without(night, paths, options, {&none, 1}).front();
 }
 
 std::vector<double> antenna_path_noise_mm(const NightRetrieval& retrieval) {
