@@ -14,6 +14,7 @@
 #include <unordered_map>
 
 #include "core/parallel_for.hpp"
+#include "core/phase_wrap.hpp"
 #include "correction/phase_residuals.hpp"
 #include "wvr/constants.hpp"
 #include "wvr/error.hpp"
@@ -548,14 +549,14 @@ class ScalingFit {
                                (p_.ratio[r.b] * r.path_b_mm - p_.ratio[r.a] * r.path_a_mm) +
                            offset(r.scan, r.b) - offset(r.scan, r.a);
       add((std::uint64_t{r.scan} * na_ + r.a) * na_ + r.b,
-          std::remainder(r.phase_rad - model, kTwoPi));
+          detail::wrap_phase_rad(r.phase_rad - model));
     }
     for (const AntennaRow& r : fit_.antenna_rows) {
       const double model =
           r.k_rad_per_mm * p_.segment_scale[r.segment] * p_.ratio[r.antenna] * r.path_mm +
           offset(r.scan, r.antenna) + p_.common[r.integration];
       add((std::uint64_t{r.scan} * na_ + r.antenna) * na_ + r.antenna,
-          std::remainder(r.phase_rad - model, kTwoPi));
+          detail::wrap_phase_rad(r.phase_rad - model));
     }
     return sum_xx > 0.0 ? sum_xy / sum_xx : 0.0;
   }

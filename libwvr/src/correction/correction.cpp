@@ -6,6 +6,7 @@
 #include <map>
 #include <numbers>
 
+#include "core/phase_wrap.hpp"
 #include "core/statistics.hpp"
 #include "wvr/constants.hpp"
 #include "wvr/error.hpp"
@@ -240,7 +241,7 @@ CorrectionMetrics evaluate_correction(const Night& night,
     const double sa = antenna_scale.empty() ? 1.0 : antenna_scale[static_cast<std::size_t>(a)];
     const double sb = antenna_scale.empty() ? 1.0 : antenna_scale[static_cast<std::size_t>(b)];
     m.corrected_phase_rad[r] =
-        std::remainder(cp.phase_rad[r] - kk->second * (sb * lb - sa * la), kTwoPi);
+        detail::wrap_phase_rad(cp.phase_rad[r] - kk->second * (sb * lb - sa * la));
     const std::size_t pair = static_cast<std::size_t>(a) * na + static_cast<std::size_t>(b);
     row_pair[r] = static_cast<std::uint32_t>(pair);
     row_scan[r] = static_cast<std::uint32_t>(scan);
@@ -271,8 +272,8 @@ CorrectionMetrics evaluate_correction(const Night& night,
       auto& s = pair_sums[p];
       for (std::size_t i = first; i < last; ++i) {
         const std::size_t r = grouped[i];
-        const double db = std::remainder(cp.phase_rad[r] - mean_before, kTwoPi);
-        const double da = std::remainder(m.corrected_phase_rad[r] - mean_after, kTwoPi);
+        const double db = detail::wrap_phase_rad(cp.phase_rad[r] - mean_before);
+        const double da = detail::wrap_phase_rad(m.corrected_phase_rad[r] - mean_after);
         s[0] += 1;
         s[1] += db * db;
         s[2] += da * da;

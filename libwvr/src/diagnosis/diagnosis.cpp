@@ -6,6 +6,7 @@
 #include <numbers>
 #include <sstream>
 
+#include "core/phase_wrap.hpp"
 #include "core/statistics.hpp"
 #include "diagnosis/inheritance.hpp"
 #include "diagnosis/residual_floor.hpp"
@@ -301,19 +302,19 @@ NightDiagnosis diagnose_night(const Night& night,
       double s2b = 0, s2a = 0, sd = 0, prev = std::nan("");
       std::size_t nd = 0;
       for (std::size_t i : rows) {
-        const double db = std::remainder(cp.phase_rad[i] - mean_before, kTwoPi);
-        const double da = std::remainder(metrics.corrected_phase_rad[i] - mean_after, kTwoPi);
+        const double db = detail::wrap_phase_rad(cp.phase_rad[i] - mean_before);
+        const double da = detail::wrap_phase_rad(metrics.corrected_phase_rad[i] - mean_after);
         s2b += db * db;
         s2a += da * da;
         if (std::isfinite(prev)) {
-          const double step = std::remainder(da - prev, kTwoPi);
+          const double step = detail::wrap_phase_rad(da - prev);
           sd += step * step;
           ++nd;
         }
         prev = da;
         obs.push_back(db);
         // Predicted = observed minus corrected (the radiometer phase), wrapped about its mean.
-        pred.push_back(std::remainder(cp.phase_rad[i] - metrics.corrected_phase_rad[i], kTwoPi));
+        pred.push_back(detail::wrap_phase_rad(cp.phase_rad[i] - metrics.corrected_phase_rad[i]));
       }
       // Circular mean: an absolute radiometer path (offsets, a model that differs from the sky)
       // can put the predicted phase near +/-pi, where an arithmetic mean of wrapped values fails.
@@ -325,7 +326,7 @@ NightDiagnosis diagnose_night(const Night& night,
       const double pm = std::atan2(ps, pc);
       double sxy = 0, sxx = 0, syy = 0;
       for (std::size_t j = 0; j < pred.size(); ++j) {
-        const double x = std::remainder(pred[j] - pm, kTwoPi);
+        const double x = detail::wrap_phase_rad(pred[j] - pm);
         sxy += x * obs[j];
         sxx += x * x;
         syy += obs[j] * obs[j];
@@ -337,7 +338,7 @@ NightDiagnosis diagnose_night(const Night& night,
       bw.slope = sxx > 0 ? sxy / sxx : std::nan("");
       double s2r = 0.0;
       for (std::size_t j = 0; j < pred.size(); ++j) {
-        const double x = std::remainder(pred[j] - pm, kTwoPi);
+        const double x = detail::wrap_phase_rad(pred[j] - pm);
         s2r += (obs[j] - bw.slope * x) * (obs[j] - bw.slope * x);
       }
       bw.rms_refit = std::sqrt(s2r / static_cast<double>(bw.n));

@@ -6,6 +6,7 @@
 #include <numbers>
 #include <sstream>
 
+#include "core/phase_wrap.hpp"
 #include "turbulence/calibrator_groups.hpp"
 #include "wvr/error.hpp"
 #include "wvr/structure_function.hpp"
@@ -102,8 +103,7 @@ CalibratorTemporalResult calibrator_temporal_structure(const Night& night,
       for (std::size_t i = 0; i + k < rows.size(); ++i) {
         // Regular sampling inside a scan; a gap breaks the pair.
         if (std::abs(rows[i + k].time_s - rows[i].time_s - lag) > 0.5 * cadence_s) continue;
-        const double d_rad =
-            std::remainder(rows[i + k].phase_rad - rows[i].phase_rad, 2.0 * std::numbers::pi);
+        const double d_rad = detail::wrap_phase_rad(rows[i + k].phase_rad - rows[i].phase_rad);
         const double d = d_rad * rows[i].metres_per_rad;
         sum_sq_rad[l] += d_rad * d_rad;
         sum_sq[l] += d * d;
