@@ -5,8 +5,20 @@
 #include <numbers>
 
 #include "wvr/constants.hpp"
+#include "wvr/error.hpp"
 
 namespace wvr::detail {
+
+void require_row_phases(const Night& night, std::span<const double> phase_rad) {
+  const CalibratorPhases& cp = night.calibrator_phases;
+  if (phase_rad.size() != cp.time_s.size() || cp.antenna_pair.size() != cp.time_s.size() ||
+      cp.freq_ghz.size() != cp.time_s.size()) {
+    throw InvalidInput("phase_rad has " + std::to_string(phase_rad.size()) + " values for " +
+                       std::to_string(cp.time_s.size()) + " calibrator rows (antenna_pair " +
+                       std::to_string(cp.antenna_pair.size()) + ", freq_ghz " +
+                       std::to_string(cp.freq_ghz.size()) + ")");
+  }
+}
 
 std::vector<const Scan*> calibrator_scans(const Night& night) {
   std::vector<const Scan*> scans;

@@ -12,6 +12,8 @@
 #include <vector>
 
 #include "wvr/night.hpp"
+#include "wvr/spatial_structure.hpp"
+#include "wvr/temporal_structure.hpp"
 
 namespace wvr::detail {
 
@@ -33,6 +35,10 @@ struct CalibratorGroups {
   std::size_t skipped = 0;  // rows outside calibrator scans or unusable (antennas, NaN, freq)
 };
 
+// Throws InvalidInput unless `phase_rad` has one value per calibrator row of the night (and
+// the rows' columns have one length).
+void require_row_phases(const Night& night, std::span<const double> phase_rad);
+
 // The calibrator scans of a night, in time order.
 std::vector<const Scan*> calibrator_scans(const Night& night);
 
@@ -42,5 +48,16 @@ std::vector<const Scan*> calibrator_scans(const Night& night);
 CalibratorGroups group_calibrator_rows(const Night& night,
                                        std::span<const double> phase_rad,
                                        const std::vector<const Scan*>& scans);
+
+// calibrator_structure_function and calibrator_temporal_structure on rows grouped once: the
+// night's turbulence stage runs both on each phase set (11.6 million rows with every baseline
+// of 64 antennas x 8 h), and grouping cost more than either.
+SpatialStructureResult calibrator_structure_from_groups(const Night& night,
+                                                        const CalibratorGroups& grouped,
+                                                        const SpatialStructureOptions& options);
+CalibratorTemporalResult calibrator_temporal_from_groups(const Night& night,
+                                                         const CalibratorGroups& grouped,
+                                                         double speed_m_s,
+                                                         const CalibratorTemporalOptions& options);
 
 }  // namespace wvr::detail

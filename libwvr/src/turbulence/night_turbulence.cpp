@@ -6,6 +6,7 @@
 #include <limits>
 #include <span>
 
+#include "turbulence/calibrator_groups.hpp"
 #include "wvr/error.hpp"
 
 namespace wvr {
@@ -64,7 +65,7 @@ RadiometerTemporalStructure temporal_structure(const Night& night,
 }
 
 FittedStructureFunction by_lag(const Night& night,
-                               std::span<const double> phases,
+                               const detail::CalibratorGroups& grouped,
                                const WindEstimate& wind,
                                std::string source,
                                std::vector<double>& lag_s,
@@ -75,7 +76,8 @@ FittedStructureFunction by_lag(const Night& night,
     out.message = "not available: no wind estimate";
     return out;
   }
-  const CalibratorTemporalResult r = calibrator_temporal_structure(night, phases, wind.speed_m_s);
+  const CalibratorTemporalResult r =
+      detail::calibrator_temporal_from_groups(night, grouped, wind.speed_m_s, {});
   out.status = r.status;
   out.message = r.message;
   if (!r.ok()) return out;
@@ -239,20 +241,25 @@ NightTurbulence analyse_night_turbulence(const Night& night,
     t.slab = night_slab_thickness(night, clean, radiometer_options);
   }
   t.radiometer_by_time = temporal_structure(night, clean, radiometer_sf);
-  t.before = fitted_spatial(calibrator_structure_function(night, night.calibrator_phases.phase_rad),
-                            "calibrator phases before correction");
-  t.after = fitted_spatial(calibrator_structure_function(night, metrics.corrected_phase_rad),
-                           "calibrator phases after correction");
   WindOptions wind_options;
   wind_options.threads = options.threads;
   t.wind = estimate_wind(night, clean, wind_options);
-  t.before_by_lag =
-      by_lag(night, night.calibrator_phases.phase_rad, t.wind,
-             "calibrator phases before correction, by lag (flow separation = wind x lag)",
+  // Each phase set grouped once for its spatial and its by-lag structure function.
+  const auto calibrator = [&](std::span<const double> phase_rad, const std::string& when,
+                              FittedStructureFunction& spatial, FittedStructureFunction& lagged,
+                              std::vector<double>& lag_s, std::string& note) {
+    detail::require_row_phases(night, phase_rad);
+    const detail::CalibratorGroups grouped =
+        detail::group_calibrator_rows(night, phase_rad, detail::calibrator_scans(night));
+    spatial = fitted_spatial(detail::calibrator_structure_from_groups(night, grouped, {}),
+                             "calibrator phases " + when);
+    lagged = by_lag(night, grouped, t.wind,
+                    "calibrator phases " + when + ", by lag (flow separation = wind x lag)", lag_s,
+                    note);
+  };
+  calibrator(night.calibrator_phases.phase_rad, "before correction", t.before, t.before_by_lag,
              t.before_by_lag_lag_s, t.before_by_lag_note);
-  t.after_by_lag =
-      by_lag(night, metrics.corrected_phase_rad, t.wind,
-             "calibrator phases after correction, by lag (flow separation = wind x lag)",
+  calibrator(metrics.corrected_phase_rad, "after correction", t.after, t.after_by_lag,
              t.after_by_lag_lag_s, t.after_by_lag_note);
   t.switching = switching_advice(t, obs_freq_ghz, options);
   return t;

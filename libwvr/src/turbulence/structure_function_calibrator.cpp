@@ -40,23 +40,28 @@ CalibratorTemporalResult calibrator_temporal_structure(const Night& night,
                                                        const CalibratorTemporalOptions& options) {
   options.validate();
   require_in_range("speed_m_s", speed_m_s, 1e-3, 1e3, "m/s");
-  const CalibratorPhases& cp = night.calibrator_phases;
-  if (phase_rad.size() != cp.time_s.size() || cp.antenna_pair.size() != cp.time_s.size() ||
-      cp.freq_ghz.size() != cp.time_s.size()) {
-    throw InvalidInput("phase_rad has " + std::to_string(phase_rad.size()) + " values for " +
-                       std::to_string(cp.time_s.size()) + " calibrator rows");
-  }
+  detail::require_row_phases(night, phase_rad);
+  return detail::calibrator_temporal_from_groups(
+      night, detail::group_calibrator_rows(night, phase_rad, detail::calibrator_scans(night)),
+      speed_m_s, options);
+}
+
+CalibratorTemporalResult detail::calibrator_temporal_from_groups(
+    const Night& night,
+    const detail::CalibratorGroups& grouped,
+    double speed_m_s,
+    const CalibratorTemporalOptions& options) {
+  options.validate();
+  require_in_range("speed_m_s", speed_m_s, 1e-3, 1e3, "m/s");
   CalibratorTemporalResult result;
   result.speed_m_s = speed_m_s;
-  const std::vector<const Scan*> scans = detail::calibrator_scans(night);
   const int na = static_cast<int>(night.antenna_count());
-  if (scans.empty() || na < 2) {
-    result.message = scans.empty() ? "no calibrator scans in the night"
-                                   : "fewer than two antennas: no baselines";
+  const bool no_scans = detail::calibrator_scans(night).empty();
+  if (no_scans || na < 2) {
+    result.message =
+        no_scans ? "no calibrator scans in the night" : "fewer than two antennas: no baselines";
     return result;
   }
-  // Phase series of each (baseline, scan), in time order; wraps are undone pairwise below.
-  const detail::CalibratorGroups grouped = detail::group_calibrator_rows(night, phase_rad, scans);
   // Cadence: the median step within the groups.
   std::vector<double> steps;
   std::size_t longest = 0;

@@ -9,6 +9,7 @@
 #include <sstream>
 
 #include "core/parallel_for.hpp"
+#include "core/phase_wrap.hpp"
 #include "turbulence/calibrator_groups.hpp"
 #include "turbulence/radiometer_structure_without.hpp"
 #include "wvr/error.hpp"
@@ -102,20 +103,12 @@ SpatialStructureResult finish(const Night& night,
 
 }  // namespace
 
-SpatialStructureResult calibrator_structure_function(const Night& night,
-                                                     std::span<const double> phase_rad,
-                                                     const SpatialStructureOptions& options) {
+SpatialStructureResult detail::calibrator_structure_from_groups(
+    const Night& night,
+    const detail::CalibratorGroups& grouped,
+    const SpatialStructureOptions& options) {
   options.validate();
-  const CalibratorPhases& cp = night.calibrator_phases;
-  if (phase_rad.size() != cp.time_s.size() || cp.antenna_pair.size() != cp.time_s.size() ||
-      cp.freq_ghz.size() != cp.time_s.size()) {
-    throw InvalidInput("phase_rad has " + std::to_string(phase_rad.size()) + " values for " +
-                       std::to_string(cp.time_s.size()) + " calibrator rows (antenna_pair " +
-                       std::to_string(cp.antenna_pair.size()) + ", freq_ghz " +
-                       std::to_string(cp.freq_ghz.size()) + ")");
-  }
-  const std::vector<const Scan*> scans = detail::calibrator_scans(night);
-  if (scans.empty()) {
+  if (detail::calibrator_scans(night).empty()) {
     SpatialStructureResult r;
     r.message = "no calibrator scans in the night";
     return r;
@@ -125,8 +118,6 @@ SpatialStructureResult calibrator_structure_function(const Night& night,
     r.message = "fewer than two antennas: no baselines";
     return r;
   }
-  // Rows of each (baseline, scan), as path deviations are computed per group.
-  const detail::CalibratorGroups grouped = detail::group_calibrator_rows(night, phase_rad, scans);
   std::size_t skipped = grouped.skipped;
   std::map<std::pair<int, int>, Accumulator> sums;
   for (const detail::CalibratorGroup& group : grouped.groups) {
@@ -139,15 +130,24 @@ SpatialStructureResult calibrator_structure_function(const Night& night,
     const double centre = std::arg(mean);
     Accumulator& acc = sums[{group.a, group.b}];
     for (const detail::CalibratorRow& s : group.rows) {
-      // Wrap-aware deviation from the scan's circular mean, in (-pi, pi].
-      const double dev = std::arg(std::polar(1.0, s.phase_rad - centre));
-      const double dev_m = dev * s.metres_per_rad;
+      // Wrap-aware deviation from the scan's circular mean.
+      const double dev_m = detail::wrap_phase_rad(s.phase_rad - centre) * s.metres_per_rad;
       acc.sum_sq_m2 += dev_m * dev_m;
     }
     acc.samples += group.rows.size();
     acc.segments += 1;
   }
   return finish(night, sums, skipped, "calibrator rows");
+}
+
+SpatialStructureResult calibrator_structure_function(const Night& night,
+                                                     std::span<const double> phase_rad,
+                                                     const SpatialStructureOptions& options) {
+  options.validate();
+  detail::require_row_phases(night, phase_rad);
+  const std::vector<const Scan*> scans = detail::calibrator_scans(night);
+  return detail::calibrator_structure_from_groups(
+      night, detail::group_calibrator_rows(night, phase_rad, scans), options);
 }
 
 namespace detail {
