@@ -3,6 +3,7 @@
 #include <gtest/gtest.h>
 
 #include <algorithm>
+#include <cmath>
 #include <string>
 
 #include "test_util.hpp"
@@ -149,6 +150,26 @@ TEST(DiagnosisOutsideDomain, SamplesTheFileMarksInvalidStayNoData) {
       << d.windows.front().reason;
   EXPECT_TRUE(mentions(d.windows.front().reason, "(no data)")) << d.windows.front().reason;
   EXPECT_EQ(d.windows.back().verdict, Verdict::kOutsideDomain) << d.windows.back().reason;
+}
+
+TEST(DiagnosisOutsideDomain, TurbulenceLeavesTheScansOutsideTheDomainOut) {
+  // The coefficient window the source sets in still gives paths a little below the limit.
+  const Chain& c = chain();
+  const NightDiagnosis d = diagnose_night(c.night, c.retrieval, c.paths, c.metrics, c.factor);
+  const AntennaPaths clean = paths_for_turbulence(c.night, c.paths, d);
+  const std::size_t nt = c.paths.time_s.size();
+  std::size_t measured = 0, kept = 0;
+  for (const WindowDiagnosis& w : d.windows) {
+    if (w.verdict != Verdict::kOutsideDomain) continue;
+    for (std::size_t i = 0; i < c.paths.path_mm.size(); ++i) {
+      const double t = c.paths.time_s[i % nt];
+      if (t < w.start_s || t >= w.stop_s) continue;
+      measured += std::isfinite(c.paths.path_mm[i]);
+      kept += std::isfinite(clean.path_mm[i]);
+    }
+  }
+  EXPECT_GT(measured, 0u);
+  EXPECT_EQ(kept, 0u);
 }
 
 }  // namespace
