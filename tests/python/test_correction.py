@@ -114,7 +114,7 @@ def test_process_night_gives_every_stage_as_typed_results(wet_night, processed):
     assert len(r.diagnosis.windows) == len(night.scans)
     assert {w.verdict for w in r.diagnosis.windows} <= {
         "corrected", "quiet sky", "dry turbulence", "cloud", "radiometer fault", "scale off",
-        "cannot judge"}
+        "cannot judge", "outside retrieval domain"}
     t = r.turbulence
     assert t.wind.ok and t.wind.speed_m_s > 0
     assert t.radiometer.measured

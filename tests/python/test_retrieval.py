@@ -291,8 +291,8 @@ def test_flag_descriptions():
     assert wvr.describe_retrieval_flags(2 | 8) == "bad brightness, no weather"
     assert [f.name for f in wvr.RetrievalFlag] == [
         "INVALID_IN_FILE", "BAD_BRIGHTNESS", "OUT_OF_DOMAIN", "NO_WEATHER", "FIT_FAILED",
-        "NO_VALID_SAMPLES"]
-    assert [int(f) for f in wvr.RetrievalFlag] == [1, 2, 4, 8, 16, 32]
+        "NO_VALID_SAMPLES", "ELEVATION_OUT_OF_DOMAIN"]
+    assert [int(f) for f in wvr.RetrievalFlag] == [1, 2, 4, 8, 16, 32, 64]
     # No weather is advisory: every other bit makes a sample unusable.
     assert int(wvr.RETRIEVAL_UNUSABLE) == 63 - 8
     assert wvr.RetrievalFlag.FIT_FAILED.description == "fit failed"

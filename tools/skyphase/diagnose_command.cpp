@@ -141,7 +141,8 @@ void add_diagnose_command(CLI::App& app) {
   auto options = std::make_shared<CommonOptions>();
   CLI::App* cmd = app.add_subcommand(
       "diagnose",
-      "Judge each scan: corrected, quiet sky, dry turbulence, cloud, radiometer fault, scale off");
+      "Judge each scan: corrected, quiet sky, dry turbulence, cloud, radiometer fault, scale off, "
+      "outside retrieval domain");
   add_common(*cmd, *options);
   add_frequency_option(*cmd, *options);
   add_diagnosis_options(*cmd, *options);

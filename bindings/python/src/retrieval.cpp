@@ -347,13 +347,14 @@ py::dict invert_many(const PwvTable& table,
 
 // --- night mode -----------------------------------------------------------------------------
 
-constexpr std::array<std::pair<RetrievalFlag, const char*>, 6> kFlagNames = {{
+constexpr std::array<std::pair<RetrievalFlag, const char*>, 7> kFlagNames = {{
     {kFlagInvalidInFile, "INVALID_IN_FILE"},
     {kFlagBadBrightness, "BAD_BRIGHTNESS"},
     {kFlagOutOfDomain, "OUT_OF_DOMAIN"},
     {kFlagNoWeather, "NO_WEATHER"},
     {kFlagFitFailed, "FIT_FAILED"},
     {kFlagNoValidSamples, "NO_VALID_SAMPLES"},
+    {kFlagElevationOutOfDomain, "ELEVATION_OUT_OF_DOMAIN"},
 }};
 
 py::dict retrieval_summary(const NightRetrieval& retrieval) {

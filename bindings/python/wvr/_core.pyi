@@ -863,6 +863,8 @@ class NightRetrieval:
     def window_wet_path_mm(self) -> FloatArray: ...  # mm, [A, W]
     @property
     def window_elevation_deg(self) -> FloatArray: ...  # deg, [A, W]
+    @property
+    def table_min_elevation_deg(self) -> float: ...  # deg; NaN when not recorded
     def summary(self) -> NightRetrievalSummary: ...
     def to_result_group(self, night: Night) -> ResultGroup: ...
 

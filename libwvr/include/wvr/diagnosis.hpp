@@ -12,6 +12,11 @@
 //
 // Verdicts (our vocabulary), first match wins for the array; the array verdict describes the
 // healthy antennas (a flagged antenna is named in antenna_faults, not in the verdict):
+//   outside retrieval domain
+//                     more than fault_array_fraction of the antennas have more than
+//                     fault_unusable_fraction of their samples outside the retrieval's table
+//                     (the source below its elevation limit, or a surface temperature or PWV
+//                     outside it): no radiometer path to judge, and no radiometer at fault;
 //   cannot judge      no calibrator phases or no usable radiometer in the window;
 //   cloud             most antennas' radiometer residual changed: chi2/dof above
 //                     cloud_chi2_per_dof against the floor (RadiometerFloor: thermal noise
@@ -27,7 +32,10 @@
 //   corrected         otherwise.
 // A target scan whose own radiometers show no cloud takes the phase-based verdict of a
 // neighbouring calibrator scan, never its cloud.
-// Antenna faults: unusable retrieval samples above fault_unusable_fraction, a channel whose
+// Samples outside the retrieval's domain are the pointing's or the sky's, never a unit's: they
+// count towards no antenna fault, and the reason names them (with the elevation limit).
+// Antenna faults: unusable retrieval samples (invalid in the file, bad brightness, failed fits)
+// above fault_unusable_fraction of the samples inside the domain, a channel whose
 // brightness varies less than stuck_noise_fraction x its noise, spikes (samples with chi2/dof
 // above spike_chi2_per_dof in more than spike_fraction of samples), chi2/dof above
 // fault_chi2_ratio x the array median (and above cloud_chi2_per_dof / 2), or a residual after
@@ -57,6 +65,7 @@ enum class Verdict : std::uint8_t {
   kRadiometerFault,
   kScaleOff,
   kCannotJudge,
+  kOutsideDomain,  // added after the others: stored codes keep their values
 };
 std::string to_string(Verdict verdict);
 // Whether the radiometer correction can be used in a window with this verdict: it removed the
@@ -66,7 +75,8 @@ bool correction_usable(Verdict verdict);
 
 // Reasons an antenna is flagged in a window (bits).
 enum AntennaFault : std::uint8_t {
-  kFaultNoData = 1,  // too many unusable retrieval samples (dead channel, dropouts)
+  kFaultNoData = 1,  // too many unusable retrieval samples (dead channel, dropouts; not
+                     // samples outside the retrieval's domain)
   kFaultStuckChannel = 2,
   kFaultSpikes = 4,
   kFaultInconsistent = 8,    // retrieval chi2 far above the array's (gain jump, drifting channel)

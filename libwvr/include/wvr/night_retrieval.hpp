@@ -12,6 +12,7 @@
 // 1 / sqrt(sum_k s_k^2 / sigma_k^2); channels near saturation (small s_c) get little weight.
 // Antennas are spread over threads; results do not depend on the thread count.
 
+#include <cmath>
 #include <cstdint>
 #include <string>
 #include <vector>
@@ -27,14 +28,18 @@ namespace wvr {
 
 // Reasons a sample or window is flagged (bits of a uint8). kRetrievalUnusable marks the bits
 // after which the PWV is not usable; kFlagNoWeather is advisory (the site's surface
-// temperature was used).
+// temperature was used). kFlagElevationOutOfDomain comes with kFlagOutOfDomain and tells the
+// pointing apart from the sky (kFlagOutOfDomain alone: surface temperature or PWV): a source
+// below the table's elevation limit is not a radiometer fault. Retrievals stored before the bit
+// existed have kFlagOutOfDomain alone for every cause.
 enum RetrievalFlag : std::uint8_t {
-  kFlagInvalidInFile = 1,    // the night file marks the sample invalid
-  kFlagBadBrightness = 2,    // a channel is NaN, negative or implausible
-  kFlagOutOfDomain = 4,      // elevation, surface temperature or PWV outside the table
-  kFlagNoWeather = 8,        // no weather series: site surface temperature assumed
-  kFlagFitFailed = 16,       // the inversion or the window fit did not converge
-  kFlagNoValidSamples = 32,  // (windows) no usable sample in the window
+  kFlagInvalidInFile = 1,          // the night file marks the sample invalid
+  kFlagBadBrightness = 2,          // a channel is NaN, negative or implausible
+  kFlagOutOfDomain = 4,            // elevation, surface temperature or PWV outside the table
+  kFlagNoWeather = 8,              // no weather series: site surface temperature assumed
+  kFlagFitFailed = 16,             // the inversion or the window fit did not converge
+  kFlagNoValidSamples = 32,        // (windows) no usable sample in the window
+  kFlagElevationOutOfDomain = 64,  // with kFlagOutOfDomain: elevation outside the table
 };
 inline constexpr std::uint8_t kRetrievalUnusable = kFlagInvalidInFile | kFlagBadBrightness |
                                                    kFlagOutOfDomain | kFlagFitFailed |
@@ -73,6 +78,9 @@ struct NightRetrieval {
   std::vector<double> window_wet_path_mm;
   std::vector<double> window_elevation_deg;  // [antenna, window], mean of the used samples
   std::string model;                         // name of the absorption model used
+  // Lowest elevation the table inverts (PwvTableOptions::min_elevation_deg); NaN when unknown
+  // (retrievals stored before it was recorded).
+  double table_min_elevation_deg = std::nan("");
   double seconds = 0.0;
 };
 

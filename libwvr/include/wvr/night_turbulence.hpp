@@ -98,7 +98,9 @@ struct NightTurbulence {
   SwitchingAdvice switching;
 };
 
-// Radiometer paths with cloudy windows and faulty antennas' windows set to NaN.
+// Radiometer paths with cloudy windows, windows outside the retrieval's domain (their few
+// paths come from coefficient windows fitted on the samples just inside it) and faulty
+// antennas' windows set to NaN.
 AntennaPaths paths_for_turbulence(const Night& night,
                                   const AntennaPaths& paths,
                                   const NightDiagnosis& diagnosis);

@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <map>
 #include <numbers>
 #include <sstream>
@@ -32,6 +33,8 @@ std::string to_string(Verdict verdict) {
       return "scale off";
     case Verdict::kCannotJudge:
       return "cannot judge";
+    case Verdict::kOutsideDomain:
+      return "outside retrieval domain";
   }
   return "unknown";
 }
@@ -85,6 +88,18 @@ struct BaselineWindow {
   double rms_refit = 0;  // scatter left after rescaling the prediction by `slope`
 };
 
+// Retrieval flags that say the unit gave nothing usable (the rest of kRetrievalUnusable is the
+// table's domain: the pointing or the sky).
+constexpr std::uint8_t kUnitUnusable = kRetrievalUnusable & ~kFlagOutOfDomain;
+
+// Samples of one antenna in one scan that lie outside the retrieval's domain.
+struct OutsideDomain {
+  std::size_t elevation = 0;  // below (or above) the table's elevation range
+  std::size_t sky = 0;  // surface temperature or PWV (any cause, for retrievals without the bit)
+  double lowest_elevation_deg = std::numeric_limits<double>::infinity();
+  std::size_t samples() const { return elevation + sky; }
+};
+
 // Radiometer-only evidence for antenna a over samples [k0, k1).
 std::uint8_t antenna_radiometer_faults(const Night& night,
                                        const NightRetrieval& r,
@@ -94,16 +109,29 @@ std::uint8_t antenna_radiometer_faults(const Night& night,
                                        std::size_t k1,
                                        double array_chi2,
                                        const DiagnosisThresholds& th,
-                                       double& chi2_median) {
+                                       double& chi2_median,
+                                       OutsideDomain& outside) {
   const std::size_t nt = night.time_count(), nc = night.channel_count();
   std::uint8_t faults = 0;
   std::size_t unusable = 0, spikes = 0;
   std::vector<double> chi2;
   std::vector<double> sum(nc, 0.0), sum2(nc, 0.0);
   std::size_t n = 0;
+  outside = {};
   for (std::size_t k = k0; k < k1; ++k) {
-    if (r.flags[a * nt + k] & kRetrievalUnusable) {
+    const std::uint8_t flags = r.flags[a * nt + k];
+    if (flags & kUnitUnusable) {
       ++unusable;
+      continue;
+    }
+    if (flags & kFlagOutOfDomain) {
+      if (flags & kFlagElevationOutOfDomain) {
+        ++outside.elevation;
+        outside.lowest_elevation_deg =
+            std::min(outside.lowest_elevation_deg, night.pointing.elevation_deg[a * nt + k]);
+      } else {
+        ++outside.sky;
+      }
       continue;
     }
     const double c = sample_chi2[a * nt + k];
@@ -117,10 +145,11 @@ std::uint8_t antenna_radiometer_faults(const Night& night,
     }
     ++n;
   }
-  const std::size_t total = k1 - k0;
+  // Judged on the samples inside the domain: a scan the source sets in is not a dropout.
+  const std::size_t inside = k1 - k0 - outside.samples();
   chi2_median = detail::finite_median(chi2);
-  if (total > 0 &&
-      static_cast<double>(unusable) > th.fault_unusable_fraction * static_cast<double>(total))
+  if (inside > 0 &&
+      static_cast<double>(unusable) > th.fault_unusable_fraction * static_cast<double>(inside))
     faults |= kFaultNoData;
   if (n > 10) {
     for (std::size_t ch = 0; ch < nc; ++ch) {
@@ -140,6 +169,48 @@ std::uint8_t antenna_radiometer_faults(const Night& night,
     faults |= kFaultInconsistent;
   }
   return faults;
+}
+
+// What put `outside` (summed over a scan's antennas) outside the retrieval's domain, with the
+// share of the scan's `samples` each cause took, e.g. "source below the retrieval's 14 deg
+// elevation limit (lowest elevation 12.3 deg) in 40 % of the samples".
+std::string describe_outside_domain(const OutsideDomain& outside,
+                                    std::size_t samples,
+                                    double table_min_elevation_deg) {
+  std::ostringstream out;
+  out.precision(3);
+  auto share = [&](std::size_t n) {
+    const double percent = 100.0 * static_cast<double>(n) / static_cast<double>(samples);
+    std::ostringstream text;
+    if (percent < 1.0) {
+      text << "under 1 %";
+    } else {
+      text << std::lround(percent) << " %";
+    }
+    return " in " + text.str() + " of the samples";
+  };
+  if (outside.elevation > 0) {
+    const bool limit_known = std::isfinite(table_min_elevation_deg);
+    const bool below = std::isfinite(outside.lowest_elevation_deg) &&
+                       (!limit_known || outside.lowest_elevation_deg < table_min_elevation_deg);
+    if (below) {
+      out << "source below the retrieval's ";
+      if (limit_known) out << table_min_elevation_deg << " deg ";
+      out << "elevation limit (lowest elevation " << outside.lowest_elevation_deg << " deg)";
+    } else {
+      out << "elevation outside the retrieval's table";
+    }
+    out << share(outside.elevation);
+  }
+  if (outside.sky > 0) {
+    if (outside.elevation > 0) out << ", ";
+    // Retrievals that recorded no elevation limit predate the elevation bit: their
+    // out-of-domain samples may be the pointing's too.
+    out << (std::isfinite(table_min_elevation_deg) ? "surface temperature or PWV"
+                                                   : "elevation, surface temperature or PWV")
+        << " outside the retrieval's table" << share(outside.sky);
+  }
+  return out.str();
 }
 
 }  // namespace
@@ -212,9 +283,10 @@ NightDiagnosis diagnose_night(const Night& night,
     for (std::size_t s = 0; s < night.scans.size(); ++s) {
       const std::size_t k0 = sample_index(night.scans[s].start_s),
                         k1 = sample_index(night.scans[s].stop_s);
+      OutsideDomain unused_outside;
       for (std::size_t a = 0; a < na; ++a) {
         antenna_radiometer_faults(night, r, evidence.chi2_per_dof, a, k0, k1, std::nan(""), th,
-                                  scan_chi2[s][a]);
+                                  scan_chi2[s][a], unused_outside);
         const auto drift =
             evidence.drift_chi2_per_dof.begin() + static_cast<std::ptrdiff_t>(a * nt);
         scan_drift_chi2[s][a] = detail::finite_median(std::vector<double>(
@@ -247,9 +319,22 @@ NightDiagnosis diagnose_night(const Night& night,
     const double array_drift_chi2 = detail::finite_median(scan_drift_chi2[s]);
     double unused = 0.0;
     std::size_t cloudy = 0, judged = 0;
+    // Samples outside the retrieval's domain, over the scan's antennas, and the antennas
+    // outside it for more of the scan than would flag a unit's dropouts.
+    OutsideDomain scan_outside;
+    std::vector<std::size_t> antennas_outside;
     for (std::size_t a = 0; a < na; ++a) {
-      w.antenna_faults[a] = antenna_radiometer_faults(night, r, evidence.chi2_per_dof, a, k0, k1,
-                                                      array_chi2 * usual_level[a], th, unused);
+      OutsideDomain outside;
+      w.antenna_faults[a] =
+          antenna_radiometer_faults(night, r, evidence.chi2_per_dof, a, k0, k1,
+                                    array_chi2 * usual_level[a], th, unused, outside);
+      scan_outside.elevation += outside.elevation;
+      scan_outside.sky += outside.sky;
+      scan_outside.lowest_elevation_deg =
+          std::min(scan_outside.lowest_elevation_deg, outside.lowest_elevation_deg);
+      if (static_cast<double>(outside.samples()) >
+          th.fault_unusable_fraction * static_cast<double>(k1 - k0))
+        antennas_outside.push_back(a);
       // A unit whose slow drift (taken out of the evidence above) stands out from the array's
       // as a short excursion would.
       const double drift_chi2 = scan_drift_chi2[s][a];
@@ -409,9 +494,22 @@ NightDiagnosis diagnose_night(const Night& night,
     const bool array_fault = flagged > 0 && static_cast<double>(flagged) >
                                                 th.fault_array_fraction * static_cast<double>(na);
     const bool healthy_baselines = !before.empty();
+    // Too much of the array outside the retrieval's domain: there is no radiometer path to
+    // judge, which says nothing about the units or the sky's turbulence.
+    const bool array_outside =
+        !antennas_outside.empty() && static_cast<double>(antennas_outside.size()) >
+                                         th.fault_array_fraction * static_cast<double>(na);
+    const std::string outside_text =
+        scan_outside.samples() > 0
+            ? describe_outside_domain(scan_outside, na * (k1 - k0), r.table_min_elevation_deg)
+            : std::string();
     std::ostringstream reason;
     reason.precision(3);
-    if (judged == 0) {
+    if (array_outside) {
+      w.verdict = Verdict::kOutsideDomain;
+      reason << outside_text << ": no radiometer path for " << antennas_outside.size() << " of "
+             << na << " antennas";
+    } else if (judged == 0) {
       w.verdict = Verdict::kCannotJudge;
       reason << "no usable radiometer sample";
     } else if (cloud) {
@@ -462,6 +560,14 @@ NightDiagnosis diagnose_night(const Night& night,
       reason << "phase rms " << w.rms_before_deg << " -> " << w.rms_after_deg << " deg (floor "
              << w.floor_deg << " deg), correlation " << w.correlation;
     }
+    if (!array_outside && !outside_text.empty()) {
+      reason << "; " << outside_text;
+      if (!antennas_outside.empty()) {
+        reason << " (most of the scan:";
+        for (std::size_t a : antennas_outside) reason << " " << night.array.antenna_names[a];
+        reason << ")";
+      }
+    }
     if (flagged > 0) {
       reason << "; flagged:";
       for (std::size_t a = 0; a < na; ++a) {
@@ -470,7 +576,7 @@ NightDiagnosis diagnose_night(const Night& night,
                  << describe_antenna_faults(w.antenna_faults[a]) << ")";
       }
     }
-    radiometer_judged.push_back(judged > 0 && !array_fault);
+    radiometer_judged.push_back(judged > 0 && !array_fault && !array_outside);
     w.reason = reason.str();
     d.windows.push_back(std::move(w));
   }
@@ -496,7 +602,7 @@ ResultGroup diagnosis_result_group(const NightDiagnosis& d) {
   ResultGroup g;
   g.stage = "diagnosis";
   std::ostringstream codes;
-  for (int v = 0; v <= static_cast<int>(Verdict::kCannotJudge); ++v) {
+  for (int v = 0; v <= static_cast<int>(Verdict::kOutsideDomain); ++v) {
     codes << (v ? ", " : "") << v << " " << to_string(static_cast<Verdict>(v));
   }
   g.attributes["verdict_codes"] = codes.str();

@@ -29,7 +29,9 @@ std::span<const DiagnosisThresholdField> diagnosis_threshold_fields() {
       {"scale_tolerance", &T::scale_tolerance,
        "scale off: observed/predicted slope outside 1 +/- this"},
       {"fault_unusable_fraction", &T::fault_unusable_fraction,
-       "antenna fault: unusable retrieval samples above this fraction"},
+       "antenna fault: unusable retrieval samples above this fraction of those inside the "
+       "retrieval's domain; an antenna is outside the domain in a scan when more than this "
+       "fraction of its samples are"},
       {"stuck_noise_fraction", &T::stuck_noise_fraction,
        "stuck channel: brightness varies less than this x its noise"},
       {"spike_chi2_per_dof", &T::spike_chi2_per_dof,
@@ -40,8 +42,9 @@ std::span<const DiagnosisThresholdField> diagnosis_threshold_fields() {
       {"fault_residual_ratio", &T::fault_residual_ratio,
        "antenna fault: phase residual above this x the array's at that baseline length"},
       {"fault_array_fraction", &T::fault_array_fraction,
-       "the array verdict is radiometer fault only when more than this fraction of antennas "
-       "is flagged (else it describes the healthy antennas)"},
+       "the array verdict is radiometer fault (outside retrieval domain) only when more than "
+       "this fraction of antennas is flagged (outside the domain); else it describes the "
+       "others"},
       {"systematic_window_s", &T::systematic_window_s,
        "span (s) of the running median that takes the slow array-common model error out of the "
        "radiometer residual before clouds and faults are judged"},

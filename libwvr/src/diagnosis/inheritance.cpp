@@ -19,7 +19,7 @@ const WindowDiagnosis* nearest_calibrator(const std::vector<WindowDiagnosis>& wi
 
 bool describes_the_sky(const WindowDiagnosis* w) {
   return w != nullptr && w->verdict != Verdict::kRadiometerFault &&
-         w->verdict != Verdict::kCannotJudge;
+         w->verdict != Verdict::kCannotJudge && w->verdict != Verdict::kOutsideDomain;
 }
 
 bool is_problem(const WindowDiagnosis* w) {

@@ -114,7 +114,7 @@ NightDiagnosis diagnosis_from_result_group(const ResultGroup& group,
   NightDiagnosis d;
   d.antenna_names = antenna_names;
   for (std::size_t w = 0; w < nw; ++w) {
-    if (verdict[w] > static_cast<std::uint8_t>(Verdict::kCannotJudge))
+    if (verdict[w] > static_cast<std::uint8_t>(Verdict::kOutsideDomain))
       throw InvalidInput(source + ": /results/" + group.stage + "/verdict[" + std::to_string(w) +
                          "] = " + std::to_string(verdict[w]) + " is not a verdict code");
     WindowDiagnosis wd;

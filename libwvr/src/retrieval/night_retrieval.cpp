@@ -19,9 +19,13 @@ namespace wvr {
 std::string describe_retrieval_flags(std::uint8_t flags) {
   if (flags == 0) return "ok";
   static const std::pair<std::uint8_t, const char*> kNames[] = {
-      {kFlagInvalidInFile, "invalid in file"}, {kFlagBadBrightness, "bad brightness"},
-      {kFlagOutOfDomain, "out of domain"},     {kFlagNoWeather, "no weather"},
-      {kFlagFitFailed, "fit failed"},          {kFlagNoValidSamples, "no valid samples"}};
+      {kFlagInvalidInFile, "invalid in file"},
+      {kFlagBadBrightness, "bad brightness"},
+      {kFlagOutOfDomain, "out of domain"},
+      {kFlagNoWeather, "no weather"},
+      {kFlagFitFailed, "fit failed"},
+      {kFlagNoValidSamples, "no valid samples"},
+      {kFlagElevationOutOfDomain, "elevation out of domain"}};
   std::string out;
   for (const auto& [bit, name] : kNames) {
     if ((flags & bit) == 0) continue;
@@ -108,6 +112,7 @@ NightRetrieval retrieve_night(const Night& night,
   out.samples = nt;
   out.channels = nc;
   out.model = sky.absorption_model().name();
+  out.table_min_elevation_deg = table_options.min_elevation_deg;
   const double t0 = night.radiometer.time_s.front();
   const double t_end = night.radiometer.time_s.back();
   const double window = options.coefficient_window_s;
@@ -161,6 +166,8 @@ NightRetrieval retrieve_night(const Night& night,
         flag |= kFlagBadBrightness;
       } else if (r.status == PwvTableStatus::kNoSensitiveChannel) {
         flag |= kFlagFitFailed;
+      } else if (r.status == PwvTableStatus::kElevationOutOfDomain) {
+        flag |= kFlagOutOfDomain | kFlagElevationOutOfDomain;
       } else {
         flag |= kFlagOutOfDomain;
       }
@@ -276,6 +283,8 @@ std::span<const ResultArrayField<NightRetrieval>> night_retrieval_fields() {
       {"window_wet_path_mm", &R::window_wet_path_mm, "aw", "mm", "slant wet path there"},
       {"window_elevation_deg", &R::window_elevation_deg, "aw", "deg",
        "mean elevation of the window's samples"},
+      {"table_min_elevation_deg", &R::table_min_elevation_deg, "", "deg",
+       "lowest elevation the table inverts (below it: elevation out of domain)", true},
   };
   return fields;
 }
@@ -301,7 +310,7 @@ ResultGroup to_result_group(const NightRetrieval& r, const Night& night) {
   g.attributes["method"] = "per sample: table inversion; per window: full fit of the window mean";
   g.attributes["flag_bits"] =
       "1 invalid in file, 2 bad brightness, 4 out of domain, 8 no weather, 16 fit failed, 32 no "
-      "valid samples";
+      "valid samples, 64 elevation out of domain (with 4)";
   detail::write_result_fields(g, r, night_retrieval_fields());
   (void)night;
   return g;

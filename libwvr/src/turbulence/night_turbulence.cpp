@@ -204,7 +204,9 @@ AntennaPaths paths_for_turbulence(const Night& night,
                          " entries for a night of " + std::to_string(night.antenna_count()) +
                          " antennas");
     for (std::size_t a = 0; a < night.antenna_count(); ++a) {
-      if (w.verdict != Verdict::kCloud && w.antenna_faults[a] == 0) continue;
+      if (w.verdict != Verdict::kCloud && w.verdict != Verdict::kOutsideDomain &&
+          w.antenna_faults[a] == 0)
+        continue;
       for (std::size_t k = 0; k < nt; ++k) {
         if (clean.time_s[k] >= w.start_s && clean.time_s[k] < w.stop_s)
           clean.path_mm[a * nt + k] = std::nan("");
@@ -232,7 +234,8 @@ NightTurbulence analyse_night_turbulence(const Night& night,
       radiometer_structure_function(night, clean, radiometer_options);
   t.radiometer = fitted_spatial(
       radiometer_sf,
-      "radiometer wet path, whole night, radiometer noise subtracted, cloud and faults left out");
+      "radiometer wet path, whole night, radiometer noise subtracted, cloud, faults and scans "
+      "outside the retrieval's domain left out");
   if (radiometer_sf.ok()) {
     double noise_m2 = 0.0;
     for (const BaselineStructure& b : radiometer_sf.baselines) noise_m2 += b.noise_m2;

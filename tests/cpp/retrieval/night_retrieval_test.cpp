@@ -150,6 +150,10 @@ stop_s = 900.0
   EXPECT_TRUE(r.flags[2 * nt + 10] & kFlagBadBrightness);
   EXPECT_TRUE(r.flags[3 * nt + 50] & kFlagBadBrightness);
   EXPECT_TRUE(r.flags[4 * nt + 70] & kFlagOutOfDomain);
+  // The pointing, not the sky: the elevation bit says which limit was crossed.
+  EXPECT_TRUE(r.flags[4 * nt + 70] & kFlagElevationOutOfDomain);
+  EXPECT_FALSE(r.flags[4 * nt + 71] & kFlagElevationOutOfDomain);
+  EXPECT_EQ(r.table_min_elevation_deg, PwvTableOptions{}.min_elevation_deg);
   EXPECT_TRUE(r.flags[0] & kFlagNoWeather);
   EXPECT_FALSE(r.flags[0] & kRetrievalUnusable);
   EXPECT_TRUE(std::isfinite(r.pwv_mm[0]));

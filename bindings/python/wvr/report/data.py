@@ -19,6 +19,9 @@ SCHEMA = "wvr-night-report/1"
 
 # The verdict that says the evidence was missing (wvr::Verdict's name).
 UNJUDGED_VERDICT = "cannot judge"
+# The verdict that says the retrieval had no path to give: the source below its elevation limit,
+# or a surface temperature or PWV outside its table (wvr::Verdict's name).
+OUTSIDE_DOMAIN_VERDICT = "outside retrieval domain"
 
 
 def _number(value):

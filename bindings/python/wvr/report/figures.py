@@ -25,6 +25,7 @@ VERDICT_COLOURS = {
     "radiometer fault": "#D55E00",
     "scale off": "#CC79A7",
     "cannot judge": "#F0E442",
+    "outside retrieval domain": "#0072B2",
 }
 UNKNOWN_VERDICT_COLOUR = "#000000"
 

@@ -10,7 +10,7 @@ import base64
 import html
 import math
 
-from wvr.report.data import UNJUDGED_VERDICT
+from wvr.report.data import OUTSIDE_DOMAIN_VERDICT, UNJUDGED_VERDICT
 from wvr.report.figures import UNKNOWN_VERDICT_COLOUR, VERDICT_COLOURS
 
 __all__ = ["format_value", "render_page"]
@@ -113,8 +113,11 @@ def _story(d, tag):
     episodes = d["episodes"]
     working = [k for k, e in enumerate(episodes) if e["correction_usable"]]
     unjudged = [k for k, e in enumerate(episodes) if e["verdict"] == UNJUDGED_VERDICT]
+    # No radiometer path at all (the source set below the retrieval's elevation limit, say):
+    # the correction was not tried, which is neither a failure nor missing evidence.
+    outside = [k for k, e in enumerate(episodes) if e["verdict"] == OUTSIDE_DOMAIN_VERDICT]
     failing = [k for k, e in enumerate(episodes)
-               if not e["correction_usable"] and k not in unjudged]
+               if not e["correction_usable"] and k not in unjudged and k not in outside]
     if not episodes:
         sentences.append("No window could be judged: the night has no scans.")
     if working:
@@ -130,13 +133,14 @@ def _story(d, tag):
         sentences.append(f"Correction worked in {count} of "
                          f"{_plural(len(d['windows']), 'window')}: {_join(parts)} UTC.")
     for indices, opening in ((failing, "It did not work from"),
+                             (outside, "The retrieval gave no radiometer path from"),
                              (unjudged, "It could not be judged from")):
         if indices:
             parts = [f"{tag(f'episodes.{k}.start_utc')} to {tag(f'episodes.{k}.stop_utc')} "
                      f"({tag(f'episodes.{k}.verdict')}: {tag(f'episodes.{k}.reason')})"
                      for k in indices]
             sentences.append(f"{opening} {_join(parts)} UTC.")
-    if episodes and not failing and not unjudged:
+    if episodes and not failing and not unjudged and not outside:
         sentences.append("It worked in every window.")
     sentences.append(_faults_sentence(d, tag))
     return '<p class="story" id="what-happened">' + " ".join(s for s in sentences if s) + "</p>"
