@@ -9,6 +9,7 @@
 #include <cstdlib>
 #include <cstring>
 #include <fstream>
+#include <memory>
 #include <utility>
 
 #include "core/parallel_for.hpp"
@@ -20,14 +21,23 @@ namespace wvr::detail::h5 {
 
 namespace {
 
-// The whole file in one read (a night with every baseline is 170 MB; through
-// istreambuf_iterator it took longer than HDF5's own copy of it).
-std::vector<char> file_bytes(const std::filesystem::path& path, const std::string& source) {
+// Memory from std::malloc, released with std::free (what HDF5's image callbacks hand around).
+struct FreeDeleter {
+  void operator()(void* pointer) const { std::free(pointer); }
+};
+using MallocBytes = std::unique_ptr<char, FreeDeleter>;
+
+// The whole file in one read, into memory HDF5's core driver can take over and grow.
+MallocBytes file_bytes(const std::filesystem::path& path,
+                       const std::string& source,
+                       std::size_t& size) {
   std::ifstream in(path, std::ios::binary | std::ios::ate);
-  const std::streamoff size = in ? static_cast<std::streamoff>(in.tellg()) : -1;
-  std::vector<char> bytes(size > 0 ? static_cast<std::size_t>(size) : 0);
-  if (size > 0 && in.seekg(0)) in.read(bytes.data(), static_cast<std::streamsize>(size));
-  if (!in || size < 0) {
+  const std::streamoff length = in ? static_cast<std::streamoff>(in.tellg()) : -1;
+  size = length > 0 ? static_cast<std::size_t>(length) : 0;
+  MallocBytes bytes(static_cast<char*>(std::malloc(std::max<std::size_t>(size, 1))));
+  if (bytes == nullptr) throw Error(source + ": no memory for a copy of " + path.string());
+  if (size > 0 && in.seekg(0)) in.read(bytes.get(), static_cast<std::streamsize>(size));
+  if (!in || length < 0) {
     throw Error(source + ": cannot read " + path.string() + ": " + std::strerror(errno));
   }
   return bytes;
@@ -38,24 +48,55 @@ std::vector<char> file_bytes(const std::filesystem::path& path, const std::strin
 // The core driver's memory, allocated through HDF5's file image callbacks (HDF5 1.10 "File
 // Image Operations"): when HDF5 closes the file it hands the buffer to image_free, which keeps
 // it. The kept bytes are the file exactly as HDF5 would have written it at close.
+// A file started from an existing one shares that file's bytes: every property list holding
+// the image, and then the core driver, get the same buffer instead of a copy each (the
+// pattern of HDF5's own H5LTopen_file_image with H5LT_FILE_IMAGE_DONT_COPY, HDF5 1.10 high-level
+// library). Two extra copies of a night with every baseline (170 MB each) were the peak of a
+// whole run's memory. The driver writes into and grows the buffer; property lists never free
+// it.
 struct Writer::Image {
-  void* kept = nullptr;
-  ~Image() { std::free(kept); }
+  bool sharing = false;    // started from an existing file's bytes
+  void* shared = nullptr;  // those bytes, wherever the driver has moved them
+  void* kept = nullptr;    // the closed file's bytes
+  ~Image() {
+    if (shared != kept) std::free(shared);
+    std::free(kept);
+  }
 
-  static void* allocate(std::size_t size, H5FD_file_image_op_t, void*) { return std::malloc(size); }
+  static bool hands_out_shared(H5FD_file_image_op_t op) {
+    return op == H5FD_FILE_IMAGE_OP_PROPERTY_LIST_SET ||
+           op == H5FD_FILE_IMAGE_OP_PROPERTY_LIST_COPY ||
+           op == H5FD_FILE_IMAGE_OP_PROPERTY_LIST_GET || op == H5FD_FILE_IMAGE_OP_FILE_OPEN;
+  }
+  static void* allocate(std::size_t size, H5FD_file_image_op_t op, void* user) {
+    auto* image = static_cast<Image*>(user);
+    if (image->sharing && image->shared != nullptr && hands_out_shared(op)) return image->shared;
+    return std::malloc(size);
+  }
   static void* copy(
-      void* destination, const void* source, std::size_t size, H5FD_file_image_op_t, void*) {
+      void* destination, const void* source, std::size_t size, H5FD_file_image_op_t, void* user) {
+    auto* image = static_cast<Image*>(user);
+    // The shared buffer already holds the image (a property list's view may point where the
+    // buffer was before the driver grew it).
+    if (image->sharing && destination == image->shared) return destination;
     return std::memcpy(destination, source, size);
   }
-  static void* resize(void* pointer, std::size_t size, H5FD_file_image_op_t, void*) {
-    return std::realloc(pointer, size);
+  static void* resize(void* pointer, std::size_t size, H5FD_file_image_op_t, void* user) {
+    auto* image = static_cast<Image*>(user);
+    void* resized = std::realloc(pointer, size);
+    if (resized != nullptr && pointer == image->shared) image->shared = resized;
+    return resized;
   }
   static herr_t release(void* pointer, H5FD_file_image_op_t op, void* user) {
     auto* image = static_cast<Image*>(user);
     if (op == H5FD_FILE_IMAGE_OP_FILE_CLOSE && image->kept == nullptr) {
       image->kept = pointer;
+      if (pointer == image->shared) image->shared = nullptr;
       return 0;
     }
+    // A property list's view of the shared buffer (possibly of where it was before it grew).
+    if (image->sharing && op == H5FD_FILE_IMAGE_OP_PROPERTY_LIST_CLOSE) return 0;
+    if (pointer == image->shared) image->shared = nullptr;
     std::free(pointer);
     return 0;
   }
@@ -99,8 +140,10 @@ Writer::Writer(const std::filesystem::path& start_from,
     }
     file_ = Id(H5Fcreate(name.c_str(), H5F_ACC_TRUNC, fcpl.get(), fapl.get()), H5Fclose);
   } else {
-    std::vector<char> bytes = file_bytes(start_from, source_);
-    if (H5Pset_file_image(fapl.get(), bytes.data(), bytes.size()) < 0) {
+    std::size_t size = 0;
+    image_->shared = file_bytes(start_from, source_, size).release();
+    image_->sharing = true;
+    if (H5Pset_file_image(fapl.get(), image_->shared, size) < 0) {
       throw Error(with_cause(source_ + ": cannot take a copy of " + start_from.string()));
     }
     file_ = Id(H5Fopen(name.c_str(), H5F_ACC_RDWR, fapl.get()), H5Fclose);
