@@ -24,8 +24,12 @@ struct SpatialStructureOptions {
   // antenna_path_noise_mm(). Its share of Var(L_b - L_a), sigma_a^2 + sigma_b^2, is
   // subtracted from each baseline (and reported in noise_m2); empty = nothing subtracted.
   std::vector<double> antenna_path_noise_mm;
-  // Worker threads of the slab thickness' jackknife refits (0 = all cores); results do not
-  // depend on it.
+  // Radiometer paths: antenna pairs visited; beyond this many, an even subsample over
+  // baseline length (the shortest and the longest kept) keeps the cost linear in antennas x
+  // samples. 2,016 is every pair of 64 antennas.
+  std::size_t max_pairs = 2016;
+  // Worker threads of the pairs and of the slab thickness' jackknife refits (0 = all cores);
+  // results do not depend on it.
   int threads = 0;
 
   void validate() const;  // throws InvalidInput

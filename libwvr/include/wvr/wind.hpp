@@ -25,6 +25,10 @@ struct WindOptions {
   // then at full resolution around the coarse peak: the same lags as a full-resolution search
   // (StructureFunctionNight.LongNightsAreSearchedCoarseThenFine) at a fraction of the cost.
   std::size_t coarse_search_points = 4096;
+  // Antenna pairs searched; beyond this many, an even subsample over baseline length (the
+  // shortest and the longest kept) keeps the cost linear in antennas x samples. 2,016 is every
+  // pair of 64 antennas.
+  std::size_t max_pairs = 2016;
   int threads = 0;  // antenna pairs spread over threads (0 = all cores); results do not change
 
   void validate() const;  // throws InvalidInput

@@ -11,6 +11,7 @@
 
 #include "core/parallel_for.hpp"
 #include "core/simd_dispatch.hpp"
+#include "turbulence/antenna_pairs.hpp"
 #include "wvr/error.hpp"
 #include "wvr/structure_function.hpp"
 
@@ -306,6 +307,8 @@ void WindOptions::validate() const {
   require_in_range("max_lag_s", max_lag_s, 1e-3, 1e6, "s");
   require_in_range("min_correlation", min_correlation, -1.0, 1.0);
   if (threads < 0) throw InvalidInput("threads = " + std::to_string(threads) + " is negative");
+  if (max_pairs < 2)
+    throw InvalidInput("max_pairs = " + std::to_string(max_pairs) + " must be at least 2");
   if (coarse_search_points < 16) {
     throw InvalidInput("coarse_search_points = " + std::to_string(coarse_search_points) +
                        " must be at least 16");
@@ -361,17 +364,15 @@ WindEstimate estimate_wind(const Night& night,
     series[a] = masked(x);
   }
 
-  for (std::size_t a = 0; a < na; ++a) {
-    for (std::size_t b = a + 1; b < na; ++b) {
-      PairLag p;
-      p.antenna_a = static_cast<int>(a);
-      p.antenna_b = static_cast<int>(b);
-      p.baseline_east_m = night.array.position_enu_m[b][0] - night.array.position_enu_m[a][0];
-      p.baseline_north_m = night.array.position_enu_m[b][1] - night.array.position_enu_m[a][1];
-      p.lag_s = std::nan("");
-      p.peak_correlation = std::nan("");
-      wind.pairs.push_back(p);
-    }
+  for (const auto& [a, b] : detail::antenna_pairs(night, options.max_pairs)) {
+    PairLag p;
+    p.antenna_a = static_cast<int>(a);
+    p.antenna_b = static_cast<int>(b);
+    p.baseline_east_m = night.array.position_enu_m[b][0] - night.array.position_enu_m[a][0];
+    p.baseline_north_m = night.array.position_enu_m[b][1] - night.array.position_enu_m[a][1];
+    p.lag_s = std::nan("");
+    p.peak_correlation = std::nan("");
+    wind.pairs.push_back(p);
   }
   // Pairs are independent: spread over threads, each writes only its own entry.
   detail::parallel_blocks(

@@ -10,6 +10,7 @@
 
 #include "core/parallel_for.hpp"
 #include "core/phase_wrap.hpp"
+#include "turbulence/antenna_pairs.hpp"
 #include "turbulence/calibrator_groups.hpp"
 #include "turbulence/radiometer_structure_without.hpp"
 #include "wvr/error.hpp"
@@ -39,6 +40,8 @@ void SpatialStructureOptions::validate() const {
     throw InvalidInput("min_samples = " + std::to_string(min_samples) + " must be at least 2");
   if (threads < 0)
     throw InvalidInput("threads = " + std::to_string(threads) + " is negative (0: all cores)");
+  if (max_pairs < 2)
+    throw InvalidInput("max_pairs = " + std::to_string(max_pairs) + " must be at least 2");
 }
 
 std::string SpatialStructureResult::brief_report() const {
@@ -231,9 +234,7 @@ std::vector<SpatialStructureResult> radiometer_structure_without(
     cell_of[k] = cells.size() - 1;
   }
   // Pairs over threads; each pair's accumulator of each selection goes to its own slot.
-  std::vector<std::pair<std::size_t, std::size_t>> pairs;
-  for (std::size_t a = 0; a < na; ++a)
-    for (std::size_t b = a + 1; b < na; ++b) pairs.emplace_back(a, b);
+  const std::vector<std::array<std::size_t, 2>> pairs = antenna_pairs(night, options.max_pairs);
   std::vector<Accumulator> accumulated(selections * pairs.size());
   const std::size_t workers = worker_count(options.threads, pairs.size());
   std::vector<std::size_t> skipped(selections * workers, 0);
@@ -241,7 +242,7 @@ std::vector<SpatialStructureResult> radiometer_structure_without(
       pairs.size(), workers, [&](std::size_t begin, std::size_t end, std::size_t worker) {
         std::vector<CellSums> sums(cells.size());
         for (std::size_t p = begin; p < end; ++p) {
-          const auto [a, b] = pairs[p];
+          const std::size_t a = pairs[p][0], b = pairs[p][1];
           std::fill(sums.begin(), sums.end(), CellSums{});
           const double* la = paths.path_mm.data() + a * nt;
           const double* lb = paths.path_mm.data() + b * nt;
@@ -313,7 +314,7 @@ std::vector<SpatialStructureResult> radiometer_structure_without(
     for (std::size_t p = 0; p < pairs.size(); ++p) {
       const Accumulator& acc = accumulated[j * pairs.size() + p];
       if (acc.segments > 0)
-        by_pair[{static_cast<int>(pairs[p].first), static_cast<int>(pairs[p].second)}] = acc;
+        by_pair[{static_cast<int>(pairs[p][0]), static_cast<int>(pairs[p][1])}] = acc;
     }
     std::size_t skipped_samples = 0;
     for (std::size_t w = 0; w < workers; ++w) skipped_samples += skipped[j * workers + w];
