@@ -13,7 +13,7 @@
 namespace wvr {
 namespace {
 
-// Five antennas on a line, 20 minutes at 1 s of random-walk paths (with an offset of a metre,
+// Antennas on a line, `samples` seconds of random-walk paths (with an offset of a metre,
 // so that shifted sums matter) and a few NaN samples.
 struct PathNight {
   Night night;
@@ -38,7 +38,8 @@ PathNight random_walk_night(std::size_t antennas, std::size_t samples) {
       out.paths.path_mm[a * samples + k] = path_mm;
     }
   }
-  for (std::size_t k : {3u, 400u, 401u, 777u}) out.paths.path_mm[2 * samples + k] = std::nan("");
+  for (std::size_t k : {3u, 400u, 401u, 777u})
+    if (k < samples) out.paths.path_mm[2 * samples + k] = std::nan("");
   return out;
 }
 
