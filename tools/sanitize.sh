@@ -38,9 +38,13 @@ case "$mode" in
     wait "$shard0"
     # Command-line tests: the regular Python module, the sanitized program.
     [ -d build/python/wvr ] || { echo "sanitize.sh: build/python is missing; run tools/build.sh first" >&2; exit 1; }
+    # Left out: the byte-for-byte comparison of a night simulated by skyphase with one simulated
+    # by the Python module, which holds only when both come from the same build (this skyphase
+    # is RelWithDebInfo with sanitizers; floating-point results differ in the last bits).
     PYTHONPATH=build/python WVR_TESTDATA_DIR="$PWD/testdata" \
       WVR_SKYPHASE="$PWD/build-asan/tools/skyphase" \
       WVR_SKYPHASE_TESTS_ONLY=1 /usr/bin/python3 -m pytest -q -W error -p no:cacheprovider \
+      --deselect tests/python/test_night.py::test_night_written_by_skyphase_equals_the_python_simulation \
       tests/python
     ;;
   thread)
