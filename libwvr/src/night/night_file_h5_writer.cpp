@@ -51,9 +51,9 @@ MallocBytes file_bytes(const std::filesystem::path& path,
 // A file started from an existing one shares that file's bytes: every property list holding
 // the image, and then the core driver, get the same buffer instead of a copy each (the
 // pattern of HDF5's own H5LTopen_file_image with H5LT_FILE_IMAGE_DONT_COPY, HDF5 1.10 high-level
-// library). Two extra copies of a night with every baseline (170 MB each) were the peak of a
-// whole run's memory. The driver writes into and grows the buffer; property lists never free
-// it.
+// library, from memory). Two extra copies of a night with every baseline (170 MB each) were the
+// peak of a whole run's memory. The driver writes into and grows the buffer; property lists never
+// free it.
 struct Writer::Image {
   bool sharing = false;    // started from an existing file's bytes
   void* shared = nullptr;  // those bytes, wherever the driver has moved them
