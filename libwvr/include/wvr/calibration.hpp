@@ -12,8 +12,12 @@
 // time segment. Residuals are wrap-aware: (cos phi_obs - cos phi_model, sin phi_obs -
 // sin phi_model), i.e. the 1 - cos form, under a Cauchy loss against outliers. Start values
 // come from a grid search over the array scale with closed-form (circular-mean) offsets, so
-// the solve also works at 650 GHz where the uncorrected phase wraps many times. Solver: Ceres
-// (sparse normal Cholesky); uncertainties: ceres::Covariance of the scale blocks.
+// the solve also works at 650 GHz where the uncorrected phase wraps many times. Solver:
+// Levenberg-Marquardt whose normal equations are reduced scan by scan onto the scales (the
+// per-scan offsets and per-integration common phases eliminated exactly), so an iteration is
+// one pass over the rows; uncertainties: the inverse of that reduced matrix at the solution,
+// i.e. the scales' block of (J^T W J)^-1 with offsets and common phases marginalised. It equals
+// Ceres' own solve and covariance of the same cost (tests/cpp/correction/scaling_solver_test).
 //
 // Antenna phases (the default form): an integration whose baselines all include the reference
 // antenna is fitted as it is (its rows already are antenna phases). An integration with
@@ -80,7 +84,7 @@ struct CalibrationOptions {
   double scale_search_min = 0.3;  // grid search range of the array scale
   double scale_search_max = 2.0;
   int max_iterations = 100;
-  int threads = 0;  // worker threads of the grid search and the solver (0 = all cores)
+  int threads = 0;  // worker threads of the grid search and the two fits (0 = all cores)
 
   void validate() const;  // throws InvalidInput
 };

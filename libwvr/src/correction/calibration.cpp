@@ -1,7 +1,5 @@
 #include "wvr/calibration.hpp"
 
-#include <ceres/ceres.h>
-
 #include <algorithm>
 #include <array>
 #include <cmath>
@@ -15,7 +13,8 @@
 
 #include "core/parallel_for.hpp"
 #include "core/phase_wrap.hpp"
-#include "correction/phase_residuals.hpp"
+#include "correction/scaling_rows.hpp"
+#include "correction/scaling_solver.hpp"
 #include "wvr/constants.hpp"
 #include "wvr/error.hpp"
 
@@ -76,29 +75,12 @@ std::string CalibrationResult::brief_report() const {
 
 namespace {
 
-using detail::AntennaPhaseResidual;
 using detail::AntennaRow;
-using detail::PhaseResidual;
 using detail::Row;
+using FitRows = detail::ScalingRows;
+using FitParameters = detail::ScalingParameters;
 
 constexpr double kTwoPi = 2.0 * std::numbers::pi;
-
-// Per reduced integration: the weight of its antenna rows and, when the reference antenna
-// took part (its phase is then 0), the reference's path for the start-value search.
-struct ReducedIntegration {
-  double weight;
-  double reference_path_mm;  // NaN when the reference antenna is not in the integration
-};
-
-struct RatioPrior {
-  explicit RatioPrior(double sigma) : sigma_(sigma) {}
-  template <typename T>
-  bool operator()(const T* ratio, T* residual) const {
-    residual[0] = (ratio[0] - 1.0) / sigma_;
-    return true;
-  }
-  double sigma_;
-};
 
 double interpolate_path(const AntennaPaths& paths, std::size_t antenna, double t, bool& ok) {
   const std::vector<double>& times = paths.time_s;
@@ -241,15 +223,6 @@ class AntennaPhaseReduction {
   std::vector<std::size_t> start_, fill_, incident_, queue_;
   std::vector<std::size_t> neighbour_;
   std::vector<std::array<double, 2>> neighbour_phasor_, phasor_;  // (cos, sin)
-};
-
-// The rows to fit, built from the night's calibrator phases.
-struct FitRows {
-  std::vector<Row> rows;
-  std::vector<AntennaRow> antenna_rows;
-  std::vector<ReducedIntegration> integrations;
-  std::size_t scans = 0, segments = 1;
-  std::size_t baseline_rows_used = 0, baseline_rows_skipped = 0;
 };
 
 // Adds one integration's usable baseline phases (one time and frequency) to `fit`.
@@ -447,13 +420,7 @@ class StartSearch {
   std::vector<std::uint32_t> row_group_, antenna_group_;
 };
 
-// The free parameters of one fit.
-struct FitParameters {
-  std::vector<double> segment_scale, ratio, offsets, common;  // ratio: antenna scale / array
-};
-
-// One solve of the scaling: its Ceres problem over its own parameters (at fixed addresses),
-// with one ratio per antenna free (under the prior) or all held at 1.
+// One solve of the scaling, with one ratio per antenna free (under the prior) or all held at 1.
 class ScalingFit {
  public:
   ScalingFit(const FitRows& fit,
@@ -467,65 +434,14 @@ class ScalingFit {
         na_(antennas),
         reference_(reference),
         per_antenna_(per_antenna),
-        options_(options) {
-    ceres::LossFunction* loss = new ceres::CauchyLoss(options.loss_scale);
-    std::map<double, ceres::LossFunction*> weighted_loss;
-    auto offset_block = [&](std::size_t scan, std::size_t ant) -> double* {
-      return ant == reference ? &zero_ : &p_.offsets[scan * na_ + ant];
-    };
-    for (const Row& r : fit.rows) {
-      auto* cost = new PhaseResidual(r);
-      problem_.AddResidualBlock(cost, loss, &p_.segment_scale[r.segment], &p_.ratio[r.a],
-                                &p_.ratio[r.b], offset_block(r.scan, r.a),
-                                offset_block(r.scan, r.b));
-    }
-    for (const AntennaRow& r : fit.antenna_rows) {
-      // Each antenna row stands for `weight` baselines' worth of the cost (see the header).
-      ceres::LossFunction*& weighted = weighted_loss[fit.integrations[r.integration].weight];
-      if (weighted == nullptr) {
-        weighted =
-            new ceres::ScaledLoss(new ceres::CauchyLoss(options.loss_scale),
-                                  fit.integrations[r.integration].weight, ceres::TAKE_OWNERSHIP);
-      }
-      auto* cost = new AntennaPhaseResidual(r);
-      problem_.AddResidualBlock(cost, weighted, &p_.segment_scale[r.segment], &p_.ratio[r.antenna],
-                                offset_block(r.scan, r.antenna), &p_.common[r.integration]);
-    }
-    if (problem_.HasParameterBlock(&zero_)) problem_.SetParameterBlockConstant(&zero_);
-    if (fit.rows.empty()) delete loss;  // no residual block took ownership of it
-    for (std::size_t a = 0; a < na_; ++a) {
-      if (!problem_.HasParameterBlock(&p_.ratio[a])) continue;
-      if (per_antenna_) {
-        problem_.AddResidualBlock(new ceres::AutoDiffCostFunction<RatioPrior, 1, 1>(
-                                      new RatioPrior(options.antenna_scale_prior_sigma)),
-                                  nullptr, &p_.ratio[a]);
-        ++scaled_antennas_;
-      } else {
-        problem_.SetParameterBlockConstant(&p_.ratio[a]);
-      }
-    }
+        solver_(fit, settings(antennas, reference, per_antenna, options)) {
+    for (std::size_t a = 0; a < na_; ++a) scaled_antennas_ += solver_.ratio_free(a) ? 1 : 0;
   }
 
-  void solve(int threads) {
-    ceres::Solver::Options solver_options;
-    solver_options.linear_solver_type = ceres::SPARSE_NORMAL_CHOLESKY;
-    solver_options.max_num_iterations = options_.max_iterations;
-    solver_options.logging_type = ceres::SILENT;
-    solver_options.num_threads = threads;
-    // The robust chord cost converges linearly (each step takes about half the remaining
-    // decrease). A relative cost change of 1e-7 leaves the scale within 1e-4 of its sigma of
-    // the 1e-10 solution (64 antennas x 8 h: 12 iterations instead of 21, scale 2e-7 apart).
-    solver_options.function_tolerance = 1e-7;
-    solver_options.parameter_tolerance = 1e-10;
-    ceres::Solve(solver_options, &problem_, &summary_);
-  }
+  void solve() { summary_ = solver_.solve(p_); }
 
   // Converged, or stopped at the iteration limit (a usable solution, reported as such).
-  bool usable() const {
-    return summary_.termination_type == ceres::CONVERGENCE ||
-           summary_.termination_type == ceres::NO_CONVERGENCE;
-  }
-  const FitParameters& parameters() const { return p_; }
+  bool usable() const { return summary_.termination != detail::ScalingTermination::kFailure; }
   std::size_t scaled_antennas() const { return scaled_antennas_; }
 
   // Lag-one correlation of the wrapped phase residuals of successive rows of one baseline (or
@@ -562,58 +478,36 @@ class ScalingFit {
   }
 
   // The residual cost without the prior's.
-  double data_cost() const {
-    double prior = 0.0;
-    if (per_antenna_) {
-      for (std::size_t a = 0; a < na_; ++a) {
-        if (!problem_.HasParameterBlock(&p_.ratio[a])) continue;
-        const double z = (p_.ratio[a] - 1.0) / options_.antenna_scale_prior_sigma;
-        prior += 0.5 * z * z;
-      }
-    }
-    return summary_.final_cost - prior;
-  }
+  double data_cost() const { return summary_.final_cost - summary_.prior_cost; }
 
   // Status, scales and their uncertainties (offsets and common phases marginalised) into
   // `result`.
-  void write(int threads,
-             double t0,
+  void write(double t0,
              double segment_s,
              const std::vector<std::size_t>& segment_number,
-             CalibrationResult& result) {
-    result.iterations = static_cast<int>(summary_.iterations.size());
+             CalibrationResult& result) const {
+    result.iterations = summary_.iterations;
     result.final_cost = summary_.final_cost;
     result.per_antenna_scale = per_antenna_;
-    if (summary_.termination_type == ceres::CONVERGENCE) {
-      result.status = CalibrationStatus::kConverged;
-    } else if (summary_.termination_type == ceres::NO_CONVERGENCE) {
-      result.status = CalibrationStatus::kNoConvergence;
-      result.message = "iteration limit reached";
-    } else {
-      result.status = CalibrationStatus::kSolverFailure;
-      result.message = summary_.message;
-      return;
+    switch (summary_.termination) {
+      case detail::ScalingTermination::kConverged:
+        result.status = CalibrationStatus::kConverged;
+        break;
+      case detail::ScalingTermination::kIterationLimit:
+        result.status = CalibrationStatus::kNoConvergence;
+        result.message = summary_.message;
+        break;
+      case detail::ScalingTermination::kFailure:
+        result.status = CalibrationStatus::kSolverFailure;
+        result.message = summary_.message;
+        return;
     }
-    std::vector<double>& segment_scale = p_.segment_scale;
-    std::vector<double>& ratio = p_.ratio;
-    ceres::Covariance::Options covariance_options;
-    covariance_options.algorithm_type = ceres::SPARSE_QR;
-    covariance_options.num_threads = threads;
-    ceres::Covariance covariance(covariance_options);
-    std::vector<std::pair<const double*, const double*>> blocks;
-    for (double& s : segment_scale) blocks.emplace_back(&s, &s);
-    if (per_antenna_) {
-      for (std::size_t a = 0; a < na_; ++a) {
-        if (!problem_.HasParameterBlock(&ratio[a])) continue;
-        blocks.emplace_back(&ratio[a], &ratio[a]);
-        for (double& s : segment_scale) blocks.emplace_back(&s, &ratio[a]);
-      }
-    }
-    const bool have_covariance = covariance.Compute(blocks, &problem_);
-    auto cov = [&](const double* x, const double* y) {
-      double value = std::nan("");
-      if (have_covariance) covariance.GetCovarianceBlock(x, y, &value);
-      return value;
+    const std::vector<double>& segment_scale = p_.segment_scale;
+    const std::vector<double>& ratio = p_.ratio;
+    Eigen::MatrixXd covariance;
+    const bool have_covariance = solver_.global_covariance(p_, covariance);
+    auto cov = [&](std::ptrdiff_t x, std::ptrdiff_t y) {
+      return have_covariance ? covariance(x, y) : std::nan("");
     };
     if (!have_covariance)
       result.message +=
@@ -624,23 +518,25 @@ class ScalingFit {
       return std::isnan(variance) ? variance : std::sqrt(std::max(0.0, variance));
     };
     for (std::size_t s = 0; s < segment_scale.size(); ++s) {
+      const std::ptrdiff_t is = solver_.segment_index(s);
       result.segment_start_s.push_back(t0 + segment_s * static_cast<double>(segment_number[s]));
       result.segment_scale.push_back(segment_scale[s]);
-      result.segment_scale_sigma.push_back(
-          standard_deviation(cov(&segment_scale[s], &segment_scale[s])));
+      result.segment_scale_sigma.push_back(standard_deviation(cov(is, is)));
     }
     result.scale = segment_scale[0];
     result.scale_sigma = result.segment_scale_sigma[0];
+    const std::ptrdiff_t first = solver_.segment_index(0);
     for (std::size_t a = 0; a < na_; ++a) {
       result.antenna_scale[a] = segment_scale[0] * ratio[a];
-      if (!per_antenna_ || !problem_.HasParameterBlock(&ratio[a])) {
+      const std::ptrdiff_t ia = solver_.ratio_index(a);
+      if (ia < 0) {
         result.antenna_scale_sigma[a] = result.scale_sigma;
         continue;
       }
       // s_a = S r_a: first-order propagation with the S-r_a correlation.
-      const double vs = cov(&segment_scale[0], &segment_scale[0]);
-      const double vr = cov(&ratio[a], &ratio[a]);
-      const double csr = cov(&segment_scale[0], &ratio[a]);
+      const double vs = cov(first, first);
+      const double vr = cov(ia, ia);
+      const double csr = cov(first, ia);
       const double var = ratio[a] * ratio[a] * vs + segment_scale[0] * segment_scale[0] * vr +
                          2.0 * segment_scale[0] * ratio[a] * csr;
       result.antenna_scale_sigma[a] = standard_deviation(var);
@@ -648,15 +544,32 @@ class ScalingFit {
   }
 
  private:
+  static detail::ScalingSolveSettings settings(std::size_t antennas,
+                                               std::size_t reference,
+                                               bool per_antenna,
+                                               const CalibrationOptions& options) {
+    detail::ScalingSolveSettings settings;
+    settings.antennas = antennas;
+    settings.reference = reference;
+    settings.loss_scale = options.loss_scale;
+    settings.per_antenna = per_antenna;
+    settings.ratio_prior_sigma = options.antenna_scale_prior_sigma;
+    settings.max_iterations = options.max_iterations;
+    // The robust chord cost converges linearly (each step takes about half the remaining
+    // decrease). A relative cost change of 1e-7 leaves the scale within 1e-4 of its sigma of
+    // the 1e-10 solution (64 antennas x 8 h: 12 iterations instead of 21, scale 2e-7 apart).
+    settings.function_tolerance = 1e-7;
+    settings.parameter_tolerance = 1e-10;
+    return settings;
+  }
+
   const FitRows& fit_;
   FitParameters p_;
-  double zero_ = 0.0;  // the reference antenna's offsets
   std::size_t na_, reference_;
   bool per_antenna_;
-  const CalibrationOptions& options_;
+  detail::ScalingSolver solver_;
   std::size_t scaled_antennas_ = 0;
-  ceres::Problem problem_;
-  ceres::Solver::Summary summary_;
+  detail::ScalingSolveSummary summary_;
 };
 
 }  // namespace
@@ -780,6 +693,7 @@ CalibrationResult solve_scaling(const Night& night,
   for (AntennaRow& r : fit.antenna_rows)
     r.segment = static_cast<std::uint32_t>(segment_index.at(r.segment));
   const std::size_t segments = segment_number.size();
+  fit.segments = segments;
   std::vector<double> segment_scale(segments, best_scale);
   std::vector<double> offsets(fit.scans * na, 0.0);  // [scan, antenna]; the reference's stay 0
   for (std::size_t g = 0; g < search.keys().size(); ++g) {
@@ -816,18 +730,15 @@ CalibrationResult solve_scaling(const Night& night,
   const int threads = static_cast<int>(detail::worker_count(options.threads, 64));
   std::unique_ptr<ScalingFit> kept;
   if (options.antenna_scaling == AntennaScaling::kChosenByData) {
-    // Both fits from the same start, side by side on the stage's threads (each solve spends
-    // its time in Ceres' per-residual bookkeeping, which more threads within one solve do not
-    // shorten). Starting the per-antenna fit from the array fit's solution would save it a few
-    // iterations but serialise the two; the same start keeps the result independent of the
-    // thread count.
+    // Both fits from the same start, side by side on the stage's threads. Starting the
+    // per-antenna fit from the array fit's solution would save it a few iterations but
+    // serialise the two; the same start keeps the result independent of the thread count.
     std::unique_ptr<ScalingFit> array, per_antenna;
-    const auto fit_threads = static_cast<int>(std::max<std::size_t>(1, threads / 2));
     detail::parallel_blocks(
         2, detail::worker_count(threads, 2), [&](std::size_t begin, std::size_t end, std::size_t) {
           for (std::size_t which = begin; which < end; ++which) {
             auto solved = std::make_unique<ScalingFit>(fit, start, na, ref, which == 1, options);
-            solved->solve(fit_threads);
+            solved->solve();
             (which == 1 ? per_antenna : array) = std::move(solved);
           }
         });
@@ -851,9 +762,9 @@ CalibrationResult solve_scaling(const Night& night,
   } else {
     kept = std::make_unique<ScalingFit>(
         fit, start, na, ref, options.antenna_scaling == AntennaScaling::kPerAntenna, options);
-    kept->solve(threads);
+    kept->solve();
   }
-  kept->write(threads, t0, options.segment_s, segment_number, result);
+  kept->write(t0, options.segment_s, segment_number, result);
   return result;
 }
 

@@ -1,12 +1,12 @@
 // The scaling solve's closed-form Jacobians against Ceres' own numeric differentiation
 // (ceres::NumericDiffCostFunction, central differences, Ceres 2.1) of the same residual.
-#include "correction/phase_residuals.hpp"
-
 #include <gtest/gtest.h>
 
 #include <array>
 #include <random>
 #include <vector>
+
+#include "correction/ceres_phase_residuals.hpp"
 
 namespace wvr::detail {
 namespace {

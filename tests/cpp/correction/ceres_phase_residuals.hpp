@@ -1,6 +1,7 @@
 #pragma once
-// The rows of the scaling solve and their cost functions (chord residuals with Jacobians in
-// closed form), shared by calibration.cpp and its tests.
+// The scaling solve's rows as Ceres cost functions (chord residuals with Jacobians in closed
+// form): the same cost solved by Ceres' own Levenberg-Marquardt, the reference that the
+// library's structured solver (correction/scaling_solver.hpp) is checked against.
 
 #include <ceres/ceres.h>
 
@@ -8,25 +9,9 @@
 #include <cstdint>
 #include <initializer_list>
 
+#include "correction/scaling_rows.hpp"
+
 namespace wvr::detail {
-
-// A phase row fitted as it is: a baseline phase, or an antenna phase against the reference
-// antenna (an integration whose baselines all include the reference).
-struct Row {
-  double phase_rad;
-  double k_rad_per_mm;  // 2 pi f / c * dispersion factor, per mm of path
-  double path_a_mm, path_b_mm;
-  std::uint32_t a, b, scan, segment;
-};
-
-// An antenna phase of an integration with redundant baselines, fitted with the integration's
-// common phase.
-struct AntennaRow {
-  double phase_rad;
-  double k_rad_per_mm;
-  double path_mm;
-  std::uint32_t antenna, scan, segment, integration;
-};
 
 // Chord residual of one phase: (cos obs - cos model, sin obs - sin model), with its derivative
 // with respect to the model phase, (sin model, -cos model). The cost functions below give the
