@@ -118,9 +118,14 @@ class ChannelCost final : public ceres::CostFunction {
     const double dt =
         input_.temperature_offset_k + (layout_.temperature >= 0 ? x[layout_.temperature] : 0.0);
     const double gain = layout_.gain >= 0 ? x[layout_.gain] : 1.0;
+    // The temperature term enters the model value; the other derivatives only the Jacobian,
+    // which the solver does not ask for when it evaluates a trial step's cost.
     const bool want_t = layout_.temperature >= 0 || input_.temperature_offset_k != 0.0;
-    FastSkyJacobians jac{d_pwv_, want_t ? std::span<double>(d_t_) : std::span<double>(),
-                         layout_.liquid >= 0 ? std::span<double>(d_liquid_) : std::span<double>()};
+    const bool want_jacobian = jacobians != nullptr && jacobians[0] != nullptr;
+    FastSkyJacobians jac{
+        want_jacobian ? std::span<double>(d_pwv_) : std::span<double>(),
+        want_t ? std::span<double>(d_t_) : std::span<double>(),
+        want_jacobian && layout_.liquid >= 0 ? std::span<double>(d_liquid_) : std::span<double>()};
     last_status_ = model_.evaluate(FastSkyState{x[0], input_.elevation_deg, liquid}, ws_, tb_, jac);
     if (last_status_ != FastModelStatus::kOk) return false;
     const int p = layout_.size;
