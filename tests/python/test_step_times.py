@@ -49,3 +49,25 @@ def test_each_step_is_timed_once_in_order(small_night, tmp_path, command, expect
                            capture_output=True, text=True)
     assert quiet.returncode == 0, quiet.stderr
     assert step_times(quiet.stderr) == []
+
+
+def memory_line(stderr):
+    return [line for line in stderr.splitlines() if line.startswith("memory: ")]
+
+
+def test_large_allocations_go_on_huge_pages_unless_the_user_says_otherwise(small_night, tmp_path):
+    # skyphase re-executes itself with glibc.malloc.hugetlb=1 (glibc 2.35+), added to whatever
+    # GLIBC_TUNABLES already holds; a value the user gave for that tunable stands.
+    env = {k: v for k, v in os.environ.items() if k != "GLIBC_TUNABLES"}
+    cases = [
+        ({}, "huge pages"),
+        ({"GLIBC_TUNABLES": "glibc.malloc.check=0"}, "huge pages"),
+        ({"GLIBC_TUNABLES": "glibc.malloc.hugetlb=0"}, "4 KiB pages"),
+    ]
+    for extra, expected in cases:
+        result = subprocess.run([SKYPHASE, "process", str(small_night), "-o", str(tmp_path / "m.h5"),
+                                 "--overwrite", "--step-times"], capture_output=True, text=True,
+                                env={**env, **extra})
+        assert result.returncode == 0, result.stderr
+        lines = memory_line(result.stderr)
+        assert len(lines) == 1 and expected in lines[0], (extra, result.stderr)

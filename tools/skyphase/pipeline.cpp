@@ -5,6 +5,7 @@
 #include <iomanip>
 #include <iostream>
 
+#include "huge_page_malloc.hpp"
 #include "wvr/absorption.hpp"
 #include "wvr/night_file.hpp"
 #include "wvr/site_config.hpp"
@@ -31,7 +32,8 @@ void add_common(CLI::App& cmd, CommonOptions& o) {
       ->check(CLI::Range(0, 1024));
   cmd.add_flag("--overwrite", o.overwrite, "Replace an existing output file");
   cmd.add_flag("--step-times", o.print_step_times,
-               "Print the wall time of reading, each processing step and writing on stderr");
+               "Print the wall time of reading, each processing step and writing, and the page "
+               "size of large allocations, on stderr");
   add_format_option(cmd, o.format);
 }
 
@@ -132,6 +134,9 @@ Processed process_and_write(const CommonOptions& o, const wvr::NightProcessingOp
     for (const auto& [step, wall_s] : p.result.step_wall_s)
       std::cerr << "step time: " << step << " " << wall_s << " s\n";
     std::cerr << "step time: write " << write_s << " s\n" << std::defaultfloat;
+    std::cerr << (huge_page_malloc_on()
+                      ? "memory: large allocations on huge pages (glibc.malloc.hugetlb=1)\n"
+                      : "memory: large allocations on 4 KiB pages (glibc.malloc.hugetlb not 1)\n");
   }
   return p;
 }
