@@ -921,7 +921,8 @@ WvrValueError naming the file and the dataset path on any problem.
         write_night(night, path, options);
       },
       py::arg("night"), py::arg("path"), py::kw_only(), py::arg("overwrite") = false,
-      py::arg("compression_level") = 4, py::arg("threads") = 0, R"doc(
+      py::arg("compression_level") = NightWriteOptions{}.compression_level, py::arg("threads") = 0,
+      R"doc(
 Writes night to a new night file at path, under a temporary name renamed into place.
 overwrite: replace an existing file; compression_level: gzip level 1-9 of the large datasets,
 0 = uncompressed (3-4x faster to write, files about 2x larger); threads: threads compressing
@@ -929,7 +930,8 @@ them (0 = all cores; the file's bytes do not depend on it).
 )doc");
   m.def("add_result_group", &add_group, py::arg("input_path"), py::arg("output_path"),
         py::arg("group"), py::kw_only(), py::arg("overwrite") = false, py::arg("replace") = false,
-        py::arg("compression_level") = 4, py::arg("threads") = 0);
+        py::arg("compression_level") = NightWriteOptions{}.compression_level,
+        py::arg("threads") = 0);
   m.def(
       "add_result_group",
       [](const std::filesystem::path& input, const std::filesystem::path& output,
@@ -940,7 +942,9 @@ them (0 = all cores; the file's bytes do not depend on it).
       },
       py::arg("input_path"), py::arg("output_path"), py::arg("stage"), py::arg("datasets"),
       py::arg("attributes") = py::none(), py::kw_only(), py::arg("overwrite") = false,
-      py::arg("replace") = false, py::arg("compression_level") = 4, py::arg("threads") = 0, R"doc(
+      py::arg("replace") = false,
+      py::arg("compression_level") = NightWriteOptions{}.compression_level, py::arg("threads") = 0,
+      R"doc(
 Writes a copy of the night file input_path plus /results/<stage> to output_path (a different
 file; the input is only read). The group is a wvr.ResultGroup, or stage, datasets (dict
 name -> (array, units) or (array, units, attributes)) and attributes (dict of str) as

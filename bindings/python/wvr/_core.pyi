@@ -551,7 +551,7 @@ def write_night(
     path: PathLike,
     *,
     overwrite: bool = False,
-    compression_level: int = 4,
+    compression_level: int = 1,
     threads: int = 0,
 ) -> None: ...
 @overload
@@ -562,7 +562,7 @@ def add_result_group(
     *,
     overwrite: bool = False,
     replace: bool = False,
-    compression_level: int = 4,
+    compression_level: int = 1,
     threads: int = 0,
 ) -> None: ...
 @overload
@@ -575,7 +575,7 @@ def add_result_group(
     *,
     overwrite: bool = False,
     replace: bool = False,
-    compression_level: int = 4,
+    compression_level: int = 1,
     threads: int = 0,
 ) -> None: ...
 
