@@ -8,16 +8,19 @@
 //
 // Solver: Levenberg-Marquardt on the Gauss-Newton model of that cost with iteratively
 // reweighted rows (weight w rho'(s); the Cauchy loss has rho'' < 0, where the reweighting is
-// the whole loss correction), damped by diag(H) / radius with the trust-region radius updates
-// of Nocedal & Wright (2006), Numerical Optimization, 2nd ed., sec. 10.3 and Moré (1978), as a
-// general-purpose sparse solver would do it. What makes it fast is the normal equations'
-// shape: a scan's antenna offsets and its integrations' common phases touch no other scan, so
-// each iteration eliminates, scan by scan, first every common phase (one number each), then
-// the scan's offsets (a dense block of at most one per antenna), and solves only the few global
-// parameters (segment scales, antenna ratios) densely. One iteration is one pass over the rows
-// plus small dense algebra, with no per-row bookkeeping. The covariance of the global
-// parameters is the inverse of the same reduced matrix at the solution (the offsets and
-// common phases marginalised), i.e. (J^T W J)^-1 of the reweighted Jacobian.
+// the whole loss correction; Triggs et al. (2000), Bundle Adjustment - A Modern Synthesis, on
+// robustified least squares, from memory), damped by diag(H) / radius (Marquardt's scaling), the
+// radius updated from the ratio of actual to predicted decrease (Madsen, Nielsen & Tingleff (2004),
+// Methods for Non-Linear Least Squares Problems, 2nd ed., sec. 3.2, from memory).
+//
+// What makes it fast is the shape of the normal equations: a scan's antenna offsets and its
+// integrations' common phases touch no other scan, so each iteration eliminates, scan by scan,
+// first every common phase (one number each), then the scan's offsets (a dense block of at most
+// one per antenna), and solves only the few global parameters (segment scales, antenna ratios)
+// densely. One iteration is one pass over the rows plus small dense algebra, with no per-row
+// bookkeeping. The covariance of the global parameters is the inverse of the same reduced
+// matrix at the solution (the offsets and common phases marginalised), i.e. the globals' block
+// of (J^T W J)^-1 of the reweighted Jacobian.
 
 #include <Eigen/Core>
 #include <cstddef>
