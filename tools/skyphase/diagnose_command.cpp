@@ -11,6 +11,7 @@
 #include "output.hpp"
 #include "path_prediction_json.hpp"
 #include "pipeline.hpp"
+#include "retrieval_json.hpp"
 #include "wvr/diagnosis.hpp"
 #include "wvr/error.hpp"
 #include "wvr/fast_switching.hpp"
@@ -168,12 +169,9 @@ void add_process_command(CLI::App& app) {
   cmd->callback([options] {
     DiagnosedNight d = diagnose_and_write(*options);
     const wvr::NightRetrievalSummary s = wvr::summarize(d.processed.result.retrieval);
-    d.json["retrieval"] = {{"reused", d.processed.result.retrieval_reused},
-                           {"samples_flagged", s.samples_flagged},
-                           {"pwv_median_mm", json_number(s.pwv_median_mm)},
-                           {"pwv_p10_mm", json_number(s.pwv_p10_mm)},
-                           {"pwv_p90_mm", json_number(s.pwv_p90_mm)},
-                           {"chi2_per_dof_median", json_number(s.chi2_per_dof_median)}};
+    nlohmann::ordered_json retrieval = {{"reused", d.processed.result.retrieval_reused}};
+    retrieval.update(retrieval_summary_json(s));
+    d.json["retrieval"] = std::move(retrieval);
     if (options->format == Format::kJson) {
       print_json(d.json);
     } else {

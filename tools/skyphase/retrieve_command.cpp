@@ -7,6 +7,7 @@
 #include "commands.hpp"
 #include "output.hpp"
 #include "pipeline.hpp"
+#include "retrieval_json.hpp"
 #include "wvr/night_retrieval.hpp"
 
 namespace skyphase {
@@ -25,20 +26,12 @@ void run_retrieve(const CommonOptions& o) {
                               ? retrieval.window_stop_s.front() - retrieval.window_start_s.front()
                               : 0.0;
   if (o.format == Format::kJson) {
-    nlohmann::ordered_json j;
-    j["antennas"] = s.antennas;
-    j["samples"] = s.samples;
-    j["samples_flagged"] = s.samples_flagged;
-    j["pwv_median_mm"] = s.pwv_median_mm;
-    j["pwv_p10_mm"] = s.pwv_p10_mm;
-    j["pwv_p90_mm"] = s.pwv_p90_mm;
-    j["chi2_per_dof_median"] = s.chi2_per_dof_median;
+    nlohmann::ordered_json j = retrieval_summary_json(s);
     nlohmann::ordered_json channels = nlohmann::ordered_json::array();
     for (std::size_t c = 0; c < s.path_sensitivity_k_per_mm.size(); ++c) {
       channels.push_back({{"channel", night.radiometer.config.channels[c].name},
                           {"path_sensitivity_k_per_mm", s.path_sensitivity_k_per_mm[c]}});
     }
-    j["path_sensitivity_k_per_mm"] = s.path_sensitivity_k_per_mm;
     j["channels"] = channels;
     j["windows"] = retrieval.windows;
     j["window_s"] = o.window_s.value_or(60.0);

@@ -13,7 +13,10 @@
 #include <optional>
 #include <span>
 #include <sstream>
+#include <string>
+#include <type_traits>
 #include <utility>
+#include <variant>
 
 #include "arrays.hpp"
 #include "common.hpp"
@@ -360,15 +363,30 @@ constexpr std::array<std::pair<RetrievalFlag, const char*>, 7> kFlagNames = {{
 py::dict retrieval_summary(const NightRetrieval& retrieval) {
   const NightRetrievalSummary s = summarize(retrieval);
   py::dict d;
-  d["antennas"] = s.antennas;
-  d["samples"] = s.samples;
-  d["samples_flagged"] = s.samples_flagged;
-  d["pwv_median_mm"] = s.pwv_median_mm;
-  d["pwv_p10_mm"] = s.pwv_p10_mm;
-  d["pwv_p90_mm"] = s.pwv_p90_mm;
-  d["chi2_per_dof_median"] = s.chi2_per_dof_median;
-  d["path_sensitivity_k_per_mm"] = read_only_array(s.path_sensitivity_k_per_mm);
+  for (const NightRetrievalSummaryField& field : night_retrieval_summary_fields()) {
+    std::visit(
+        [&](auto member) {
+          const auto& value = s.*member;
+          if constexpr (std::is_same_v<std::decay_t<decltype(value)>, std::vector<double>>) {
+            d[field.name] = read_only_array(value);
+          } else {
+            d[field.name] = value;
+          }
+        },
+        field.member);
+  }
   return d;
+}
+
+// The summary() docstring, from the field table.
+const char* retrieval_summary_doc() {
+  static const std::string doc = [] {
+    std::string text = "Numbers for a one-screen summary, a dict of:\n";
+    for (const NightRetrievalSummaryField& field : night_retrieval_summary_fields())
+      text += std::string(field.name) + " (" + field.units + "): " + field.meaning + "\n";
+    return text;
+  }();
+  return doc.c_str();
 }
 
 NightRetrieval retrieve(const Night& night,
@@ -587,11 +605,7 @@ coefficients at it. Arrays are read-only views. Immutable.
           .def_readonly("channels", &NightRetrieval::channels)
           .def_readonly("windows", &NightRetrieval::windows, "Coefficient windows (W).")
           .def_readonly("seconds", &NightRetrieval::seconds, "Wall time of the retrieval (s).")
-          .def("summary", &retrieval_summary, R"doc(
-Numbers for a one-screen summary: antennas, samples (antennas x samples per antenna),
-samples_flagged (unusable), pwv_median_mm, pwv_p10_mm, pwv_p90_mm (mm, over usable samples),
-chi2_per_dof_median and path_sensitivity_k_per_mm [C] (K/mm, median over antennas and windows).
-)doc")
+          .def("summary", &retrieval_summary, retrieval_summary_doc())
           .def(
               "to_result_group",
               [](const NightRetrieval& r, const Night& night) { return to_result_group(r, night); },

@@ -14,7 +14,9 @@
 
 #include <cmath>
 #include <cstdint>
+#include <span>
 #include <string>
+#include <variant>
 #include <vector>
 
 #include "wvr/absorption.hpp"
@@ -109,5 +111,19 @@ struct NightRetrievalSummary {
   std::vector<double> path_sensitivity_k_per_mm;  // per channel, median over antennas and windows
 };
 NightRetrievalSummary summarize(const NightRetrieval& retrieval);
+
+// The summary's fields, each written once: the command line's JSON and the Python dict follow
+// from this table, and the tests check the Python stub against it.
+struct NightRetrievalSummaryField {
+  using CountMember = std::size_t NightRetrievalSummary::*;
+  using ValueMember = double NightRetrievalSummary::*;
+  using PerChannelMember = std::vector<double> NightRetrievalSummary::*;
+
+  const char* name;  // JSON key and Python dict key
+  std::variant<CountMember, ValueMember, PerChannelMember> member;
+  const char* units;  // "1" for counts and dimensionless values
+  const char* meaning;
+};
+std::span<const NightRetrievalSummaryField> night_retrieval_summary_fields();
 
 }  // namespace wvr

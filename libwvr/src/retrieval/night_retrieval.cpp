@@ -335,32 +335,4 @@ NightRetrieval retrieval_from_result_group(const ResultGroup& g) {
   return r;
 }
 
-NightRetrievalSummary summarize(const NightRetrieval& r) {
-  NightRetrievalSummary s;
-  s.antennas = r.antennas;
-  s.samples = r.antennas * r.samples;
-  std::vector<double> pwv, chi2;
-  for (std::size_t i = 0; i < r.flags.size(); ++i) {
-    if (r.flags[i] & kRetrievalUnusable) {
-      ++s.samples_flagged;
-      continue;
-    }
-    pwv.push_back(r.pwv_mm[i]);
-    chi2.push_back(r.chi2_per_dof[i]);
-  }
-  s.pwv_median_mm = detail::finite_quantile(pwv, 0.5);
-  s.pwv_p10_mm = detail::finite_quantile(pwv, 0.1);
-  s.pwv_p90_mm = detail::finite_quantile(pwv, 0.9);
-  s.chi2_per_dof_median = detail::finite_quantile(chi2, 0.5);
-  for (std::size_t c = 0; c < r.channels; ++c) {
-    std::vector<double> values;
-    for (std::size_t aw = 0; aw < r.antennas * r.windows; ++aw) {
-      const double v = r.path_sensitivity_k_per_mm[aw * r.channels + c];
-      if (std::isfinite(v)) values.push_back(v);
-    }
-    s.path_sensitivity_k_per_mm.push_back(detail::finite_quantile(values, 0.5));
-  }
-  return s;
-}
-
 }  // namespace wvr
