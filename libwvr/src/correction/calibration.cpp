@@ -287,6 +287,99 @@ void add_integration(const std::vector<BaselinePhase>& phases,
   }
 }
 
+// What the rows of the fit are built from.
+struct RowSource {
+  const Night& night;
+  const AntennaPaths& paths;
+  const std::vector<std::size_t>& calibrator_scans;  // indices into night.scans, in time order
+  const PhasePerPath& phase_per_path;
+  const CalibrationOptions& options;
+  double t0;
+  std::size_t reference;
+};
+
+// The calibrator scan that may hold time t, from the one that held the previous time (rows are
+// sorted by time; a NaN time leaves it where it is).
+std::size_t advance_scan_cursor(const RowSource& source, std::size_t cursor, double t) {
+  const std::vector<std::size_t>& scans = source.calibrator_scans;
+  while (cursor < scans.size() && source.night.scans[scans[cursor]].stop_s <= t) ++cursor;
+  return cursor;
+}
+
+// Adds the calibrator phase rows [begin, end) (whole time groups) to `fit`, one integration
+// (time and frequency) at a time; `scan_cursor` is the calibrator scan a pass over the rows
+// before `begin` would have reached.
+void add_calibrator_rows(const RowSource& source,
+                         std::size_t begin,
+                         std::size_t end,
+                         std::size_t scan_cursor,
+                         FitRows& fit) {
+  const Night& night = source.night;
+  const CalibratorPhases& cp = night.calibrator_phases;
+  const std::size_t na = night.antenna_count();
+  const std::vector<std::size_t>& calibrator_scans = source.calibrator_scans;
+  std::map<double, double> k_cache;
+  auto k_at = [&](double freq_ghz) {
+    auto k = k_cache.find(freq_ghz);
+    if (k == k_cache.end()) {
+      const double factor = source.phase_per_path(freq_ghz);
+      k = k_cache
+              .emplace(freq_ghz,
+                       kTwoPi * freq_ghz * 1e9 / constants::speed_of_light_m_per_s * 1e-3 * factor)
+              .first;
+    }
+    return k->second;
+  };
+  AntennaPhaseReduction reduction(na);
+  std::map<double, std::vector<BaselinePhase>> by_freq;  // the current integration
+  std::size_t i = begin;
+  while (i < end) {
+    const double t = cp.time_s[i];
+    scan_cursor = advance_scan_cursor(source, scan_cursor, t);
+    const bool in_scan = scan_cursor < calibrator_scans.size() &&
+                         t >= night.scans[calibrator_scans[scan_cursor]].start_s;
+    for (auto& entry : by_freq) entry.second.clear();
+    // Rows of one time; a NaN time is a batch of its own (and unusable: no path at it).
+    do {
+      const auto [ia, ib] = cp.antenna_pair[i];
+      bool usable = in_scan && ia >= 0 && ib >= 0 && static_cast<std::size_t>(ia) < na &&
+                    static_cast<std::size_t>(ib) < na && ia != ib &&
+                    std::isfinite(cp.phase_rad[i]) && cp.freq_ghz[i] > 0.0 &&
+                    std::isfinite(cp.freq_ghz[i]);
+      BaselinePhase p{};
+      if (usable) {
+        bool ok_a = false, ok_b = false;
+        p.a = static_cast<std::uint32_t>(ia);
+        p.b = static_cast<std::uint32_t>(ib);
+        p.path_a_mm = interpolate_path(source.paths, p.a, t, ok_a);
+        p.path_b_mm = interpolate_path(source.paths, p.b, t, ok_b);
+        p.phase_rad = cp.phase_rad[i];
+        usable = ok_a && ok_b;
+      }
+      if (usable) {
+        by_freq[cp.freq_ghz[i]].push_back(p);
+      } else {
+        ++fit.baseline_rows_skipped;
+      }
+      ++i;
+    } while (i < end && cp.time_s[i] == t);
+    if (!in_scan) continue;
+    const double segment_s = source.options.segment_s;
+    const std::size_t segment =
+        segment_s > 0.0
+            ? static_cast<std::size_t>(std::max(0.0, std::floor((t - source.t0) / segment_s)))
+            : 0;
+    fit.scans = std::max(fit.scans, scan_cursor + 1);
+    fit.segments = std::max(fit.segments, segment + 1);
+    for (const auto& [freq, phases] : by_freq) {
+      add_integration(phases, k_at(freq), static_cast<std::uint32_t>(scan_cursor),
+                      static_cast<std::uint32_t>(segment),
+                      static_cast<std::uint32_t>(source.reference), source.options.form, reduction,
+                      fit);
+    }
+  }
+}
+
 // Grid search of the array scale with closed-form offsets: the 1 - cos cost summed over
 // (scan, pair) groups is n - |sum exp(i theta)| at each group's circular-mean offset. Reduced
 // integrations enter as antenna phases against the reference (where it took part).
@@ -602,68 +695,48 @@ CalibrationResult solve_scaling(const Night& night,
   }
   const CalibratorPhases& cp = night.calibrator_phases;
   const double t0 = paths.time_s.empty() ? 0.0 : paths.time_s.front();
-  std::map<double, double> k_cache;
-  auto k_at = [&](double freq_ghz) {
-    auto k = k_cache.find(freq_ghz);
-    if (k == k_cache.end()) {
-      const double factor = phase_per_path(freq_ghz);
-      k = k_cache
-              .emplace(freq_ghz,
-                       kTwoPi * freq_ghz * 1e9 / constants::speed_of_light_m_per_s * 1e-3 * factor)
-              .first;
-    }
-    return k->second;
-  };
-  FitRows fit;
-  AntennaPhaseReduction reduction(na);
-  std::map<double, std::vector<BaselinePhase>> by_freq;  // the current integration
-  std::size_t scan_cursor = 0;
-  std::size_t i = 0;
-  while (i < cp.time_s.size()) {
-    const double t = cp.time_s[i];
-    // The calibrator scan holding t (rows are sorted by time).
-    while (scan_cursor < calibrator_scans.size() &&
-           night.scans[calibrator_scans[scan_cursor]].stop_s <= t)
-      ++scan_cursor;
-    const bool in_scan = scan_cursor < calibrator_scans.size() &&
-                         t >= night.scans[calibrator_scans[scan_cursor]].start_s;
-    for (auto& entry : by_freq) entry.second.clear();
-    // Rows of one time; a NaN time is a batch of its own (and unusable: no path at it).
-    do {
-      const auto [ia, ib] = cp.antenna_pair[i];
-      bool usable = in_scan && ia >= 0 && ib >= 0 && static_cast<std::size_t>(ia) < na &&
-                    static_cast<std::size_t>(ib) < na && ia != ib &&
-                    std::isfinite(cp.phase_rad[i]) && cp.freq_ghz[i] > 0.0 &&
-                    std::isfinite(cp.freq_ghz[i]);
-      BaselinePhase p{};
-      if (usable) {
-        bool ok_a = false, ok_b = false;
-        p.a = static_cast<std::uint32_t>(ia);
-        p.b = static_cast<std::uint32_t>(ib);
-        p.path_a_mm = interpolate_path(paths, p.a, t, ok_a);
-        p.path_b_mm = interpolate_path(paths, p.b, t, ok_b);
-        p.phase_rad = cp.phase_rad[i];
-        usable = ok_a && ok_b;
-      }
-      if (usable) {
-        by_freq[cp.freq_ghz[i]].push_back(p);
-      } else {
-        ++fit.baseline_rows_skipped;
-      }
-      ++i;
-    } while (i < cp.time_s.size() && cp.time_s[i] == t);
-    if (!in_scan) continue;
-    const std::size_t segment =
-        options.segment_s > 0.0
-            ? static_cast<std::size_t>(std::max(0.0, std::floor((t - t0) / options.segment_s)))
-            : 0;
-    fit.scans = std::max(fit.scans, scan_cursor + 1);
-    fit.segments = std::max(fit.segments, segment + 1);
-    for (const auto& [freq, phases] : by_freq) {
-      add_integration(phases, k_at(freq), static_cast<std::uint32_t>(scan_cursor),
-                      static_cast<std::uint32_t>(segment), static_cast<std::uint32_t>(ref),
-                      options.form, reduction, fit);
-    }
+  const RowSource source{night, paths, calibrator_scans, phase_per_path, options, t0, ref};
+  // Parts of whole time groups over threads (each integration's reduction is independent of
+  // the others), concatenated in time order: the rows do not depend on the thread count.
+  constexpr std::size_t kPhaseRowsPerPart = std::size_t{1} << 16;
+  const std::size_t phase_rows = cp.time_s.size();
+  const std::size_t parts =
+      detail::worker_count(options.threads, phase_rows / kPhaseRowsPerPart + 1);
+  std::vector<std::size_t> bounds(parts + 1, phase_rows);
+  bounds[0] = 0;
+  for (std::size_t w = 1; w < parts; ++w) {
+    std::size_t b = std::max(bounds[w - 1], phase_rows * w / parts);
+    while (b > 0 && b < phase_rows && cp.time_s[b] == cp.time_s[b - 1]) ++b;
+    bounds[w] = b;
+  }
+  // Each part's first calibrator scan, as a pass over the rows before it leaves it.
+  std::vector<std::size_t> first_scan(parts, 0);
+  std::size_t cursor = 0;
+  for (std::size_t w = 1; w < parts; ++w) {
+    for (std::size_t k = bounds[w - 1]; k < bounds[w]; ++k)
+      cursor = advance_scan_cursor(source, cursor, cp.time_s[k]);
+    first_scan[w] = cursor;
+  }
+  std::vector<FitRows> part_rows(parts);
+  detail::parallel_blocks(parts, parts, [&](std::size_t begin, std::size_t end, std::size_t) {
+    for (std::size_t w = begin; w < end; ++w)
+      add_calibrator_rows(source, bounds[w], bounds[w + 1], first_scan[w], part_rows[w]);
+  });
+  FitRows fit = std::move(part_rows[0]);
+  for (std::size_t w = 1; w < parts; ++w) {
+    FitRows& part = part_rows[w];
+    const auto integration_offset = static_cast<std::uint32_t>(fit.integrations.size());
+    for (AntennaRow& r : part.antenna_rows) r.integration += integration_offset;
+    fit.rows.insert(fit.rows.end(), part.rows.begin(), part.rows.end());
+    fit.antenna_rows.insert(fit.antenna_rows.end(), part.antenna_rows.begin(),
+                            part.antenna_rows.end());
+    fit.integrations.insert(fit.integrations.end(), part.integrations.begin(),
+                            part.integrations.end());
+    fit.scans = std::max(fit.scans, part.scans);
+    fit.segments = std::max(fit.segments, part.segments);
+    fit.baseline_rows_used += part.baseline_rows_used;
+    fit.baseline_rows_skipped += part.baseline_rows_skipped;
+    part = FitRows{};
   }
   result.rows_used = fit.baseline_rows_used;
   result.rows_skipped = fit.baseline_rows_skipped;
