@@ -221,8 +221,8 @@ bool ScalingSolver::reduced_system(const ScalingParameters& p,
     const std::size_t m = scan_offset_start_[scan + 1] - scan_offset_start_[scan];
     const std::size_t q = scan_global_start_[scan + 1] - scan_global_start_[scan];
     if (m + q == 0) continue;
-    const std::size_t* offset_antennas = &scan_offset_antennas_[scan_offset_start_[scan]];
-    const std::size_t* globals = &scan_globals_[scan_global_start_[scan]];
+    const std::size_t* offset_antennas = scan_offset_antennas_.data() + scan_offset_start_[scan];
+    const std::size_t* globals = scan_globals_.data() + scan_global_start_[scan];
     for (std::size_t j = 0; j < m; ++j)
       offset_local[offset_antennas[j]] = static_cast<std::ptrdiff_t>(j);
     for (std::size_t j = 0; j < q; ++j)
@@ -264,7 +264,7 @@ bool ScalingSolver::reduced_system(const ScalingParameters& p,
       put(offset_local[r.b], 1.0);
       add_row(entries, lin.weight[i], lin.gradient[i]);
     }
-    const std::size_t* integrations = &scan_integrations_[scan_integration_start_[scan]];
+    const std::size_t* integrations = scan_integrations_.data() + scan_integration_start_[scan];
     const std::size_t integration_count =
         scan_integration_start_[scan + 1] - scan_integration_start_[scan];
     for (std::size_t k = 0; k < integration_count; ++k) {
