@@ -242,6 +242,13 @@ bool ScalingSolver::reduced_system(const ScalingParameters& p,
         }
       }
     };
+    // Appends a parameter the row touches (skipped when fixed: local index `none`).
+    int entries = 0;
+    auto put = [&](std::ptrdiff_t local, double value) {
+      if (local == none) return;
+      index[entries] = local;
+      derivative[entries++] = value;
+    };
     auto ratio_local = [&](std::size_t antenna) {
       return ratio_global_[antenna] < 0
                  ? none
@@ -251,12 +258,7 @@ bool ScalingSolver::reduced_system(const ScalingParameters& p,
       const std::size_t i = scan_rows_[k];
       const Row& r = rows_.rows[i];
       const BaselineDerivatives d = derivatives(r, p);
-      int entries = 0;
-      auto put = [&](std::ptrdiff_t local, double value) {
-        if (local == none) return;
-        index[entries] = local;
-        derivative[entries++] = value;
-      };
+      entries = 0;
       put(global_local[r.segment], d.scale);
       put(ratio_local(r.a), d.ratio_a);
       put(ratio_local(r.b), d.ratio_b);
@@ -273,12 +275,7 @@ bool ScalingSolver::reduced_system(const ScalingParameters& p,
         const std::size_t i = integration_rows_[j];
         const AntennaRow& r = rows_.antenna_rows[i];
         const AntennaDerivatives d = derivatives(r, p);
-        int entries = 0;
-        auto put = [&](std::ptrdiff_t local, double value) {
-          if (local == none) return;
-          index[entries] = local;
-          derivative[entries++] = value;
-        };
+        entries = 0;
         put(global_local[r.segment], d.scale);
         put(ratio_local(r.antenna), d.ratio);
         put(offset_local[r.antenna], 1.0);
