@@ -118,7 +118,7 @@ Processed process_and_write(const CommonOptions& o, const wvr::NightProcessingOp
   Processed p;
   auto start = Clock::now();
   wvr::NightFileStamp input_stamp;
-  p.night = wvr::read_night(o.night_file, input_stamp);
+  p.night = wvr::read_night(o.night_file, input_stamp, {.threads = o.threads});
   const double read_s = seconds_since(start);
   p.result = wvr::process_night(p.night, options);
   start = Clock::now();

@@ -903,13 +903,19 @@ Result groups: dict stage -> wvr.ResultGroup (name -> read-only array, with .uni
 
   m.def(
       "read_night",
-      [](const std::filesystem::path& path) {
+      [](const std::filesystem::path& path, int threads) {
+        if (threads < 0) {
+          throw InvalidInput("threads = " + std::to_string(threads) +
+                             " is negative (0: all cores)");
+        }
         py::gil_scoped_release release;
-        return read_night(path);
+        return read_night(path, NightReadOptions{.threads = threads});
       },
-      py::arg("path"), R"doc(
+      py::arg("path"), py::kw_only(), py::arg("threads") = 0, R"doc(
 Reads and validates a night file (str or path-like), result groups included. Raises
-WvrValueError naming the file and the dataset path on any problem.
+WvrValueError naming the file and the dataset path on any problem. threads: threads
+inflating and checking the datasets' chunks (0 = all cores); the night read does not depend
+on it.
 )doc");
   m.def(
       "write_night",

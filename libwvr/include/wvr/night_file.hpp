@@ -68,13 +68,21 @@ struct NightWriteOptions {
   std::optional<NightFileStamp> input_read_with = std::nullopt;
 };
 
+struct NightReadOptions {
+  // Threads inflating and checking the chunks of each dataset (0 = all cores); the night read
+  // does not depend on it.
+  int threads = 0;
+};
+
 // Reads and validates a night file, including every result group. Throws InvalidInput
 // naming the file and the dataset path on any problem: not HDF5, truncated, unknown
 // schema or version, missing dataset, wrong shape, type or units, bad values.
-Night read_night(const std::filesystem::path& path);
+Night read_night(const std::filesystem::path& path, const NightReadOptions& options = {});
 // Same, and gives the file's stamp as it was read (InvalidInput when the file changed while
 // it was being read).
-Night read_night(const std::filesystem::path& path, NightFileStamp& stamp);
+Night read_night(const std::filesystem::path& path,
+                 NightFileStamp& stamp,
+                 const NightReadOptions& options = {});
 
 // Validates `night` and writes it (with its result groups) to a new file at `path`.
 void write_night(const Night& night,

@@ -10,6 +10,7 @@
 namespace wvr::detail::h5 {
 
 std::atomic<std::size_t> filtered_chunks_written{0};
+std::atomic<std::size_t> filtered_chunks_read{0};
 
 std::uint32_t hdf5_fletcher32(const std::uint8_t* data, std::size_t bytes) {
   std::uint32_t sum1 = 0, sum2 = 0;
@@ -57,9 +58,51 @@ std::vector<std::uint8_t> shuffled(const std::uint8_t* chunk,
   return out;
 }
 
+std::vector<std::uint8_t> unshuffled(const std::vector<std::uint8_t>& planes,
+                                     std::size_t element_size) {
+  const std::size_t elements = planes.size() / element_size;
+  if (element_size <= 1 || elements <= 1) return planes;
+  std::vector<std::uint8_t> out(planes.size());
+  for (std::size_t b = 0; b < element_size; ++b) {
+    const std::uint8_t* plane = planes.data() + b * elements;
+    for (std::size_t e = 0; e < elements; ++e) out[e * element_size + b] = plane[e];
+  }
+  std::copy(planes.begin() + static_cast<std::ptrdiff_t>(elements * element_size), planes.end(),
+            out.begin() + static_cast<std::ptrdiff_t>(elements * element_size));
+  return out;
+}
+
 void append_checksum(std::vector<std::uint8_t>& bytes) {
   const std::uint32_t sum = hdf5_fletcher32(bytes.data(), bytes.size());
   for (int k = 0; k < 4; ++k) bytes.push_back(static_cast<std::uint8_t>(sum >> (8 * k)));
+}
+
+void check_and_strip_checksum(std::vector<std::uint8_t>& bytes) {
+  if (bytes.size() < 4) throw DamagedChunk("is too short to hold its Fletcher-32 checksum");
+  const std::size_t data_bytes = bytes.size() - 4;
+  std::uint32_t stored = 0;
+  for (int k = 0; k < 4; ++k)
+    stored |= static_cast<std::uint32_t>(bytes[data_bytes + k]) << (8 * k);
+  if (stored != hdf5_fletcher32(bytes.data(), data_bytes)) {
+    throw DamagedChunk("fails its Fletcher-32 checksum (damaged file)");
+  }
+  bytes.resize(data_bytes);
+}
+
+// The inflated size is the chunk's, plus four bytes for a checksum taken before deflate (a
+// pipeline with Fletcher-32 ahead of deflate); the size after every filter is checked at the end.
+std::vector<std::uint8_t> inflated(const std::vector<std::uint8_t>& stored,
+                                   std::size_t chunk_bytes) {
+  std::vector<std::uint8_t> out(chunk_bytes + 4);
+  uLongf out_bytes = static_cast<uLongf>(out.size());
+  const int status =
+      uncompress(out.data(), &out_bytes, stored.data(), static_cast<uLong>(stored.size()));
+  if (status != Z_OK) {
+    throw DamagedChunk("does not inflate to its " + std::to_string(chunk_bytes) +
+                       " bytes (zlib status " + std::to_string(status) + "; damaged file)");
+  }
+  out.resize(out_bytes);
+  return out;
 }
 
 }  // namespace
@@ -86,6 +129,33 @@ FilteredChunk filter_chunk(const std::uint8_t* chunk,
   }
   append_checksum(out.bytes);
   return out;
+}
+
+std::vector<std::uint8_t> unfilter_chunk(std::vector<std::uint8_t> stored,
+                                         const std::vector<ChunkFilter>& pipeline,
+                                         std::uint32_t filter_mask,
+                                         std::size_t chunk_bytes,
+                                         std::size_t element_size) {
+  for (std::size_t i = pipeline.size(); i-- > 0;) {
+    if ((filter_mask >> i) & 1u) continue;
+    switch (pipeline[i]) {
+      case ChunkFilter::kFletcher32:
+        check_and_strip_checksum(stored);
+        break;
+      case ChunkFilter::kDeflate:
+        stored = inflated(stored, chunk_bytes);
+        break;
+      case ChunkFilter::kShuffle:
+        stored = unshuffled(stored, element_size);
+        break;
+    }
+  }
+  if (stored.size() != chunk_bytes) {
+    throw DamagedChunk("holds " + std::to_string(stored.size()) + " bytes, expected " +
+                       std::to_string(chunk_bytes) + " (damaged file)");
+  }
+  ++filtered_chunks_read;
+  return stored;
 }
 
 }  // namespace wvr::detail::h5

@@ -1,10 +1,14 @@
 // Checked reading of night file objects (wvr::detail::h5::Reader).
 
 #include <algorithm>
+#include <atomic>
 #include <limits>
 #include <system_error>
 #include <utility>
 
+#include "core/parallel_for.hpp"
+#include "night/chunk_filters.hpp"
+#include "night/chunk_layout.hpp"
 #include "night/night_file_h5.hpp"
 #include "wvr/error.hpp"
 
@@ -45,7 +49,8 @@ Id open_attribute(hid_t object, const std::string& name) {
 
 }  // namespace
 
-Reader::Reader(const std::filesystem::path& path) : source_(path.string()) {
+Reader::Reader(const std::filesystem::path& path, int threads)
+    : source_(path.string()), threads_(threads) {
   std::error_code ec;
   const auto status = std::filesystem::status(path, ec);
   if (!std::filesystem::exists(status)) throw InvalidInput(source_ + ": no such file");
@@ -272,10 +277,98 @@ void Reader::expect_shape(hid_t dataset,
   if (!same) fail(path, "has shape " + shape_text(actual) + ", expected " + axes_text(axes));
 }
 
+namespace {
+
+// The dataset's filters as ChunkFilters, in pipeline order; false when it holds any other filter
+// (or a shuffle for another element size), which only HDF5's own read can undo.
+bool undoable_pipeline(hid_t dcpl, std::size_t element_size, std::vector<ChunkFilter>& pipeline) {
+  const int count = H5Pget_nfilters(dcpl);
+  if (count < 0 || count > 32) return false;
+  for (int i = 0; i < count; ++i) {
+    unsigned flags = 0, config = 0;
+    std::size_t values = 1;
+    unsigned value[1] = {0};
+    const H5Z_filter_t id =
+        H5Pget_filter2(dcpl, static_cast<unsigned>(i), &flags, &values, value, 0, nullptr, &config);
+    if (id == H5Z_FILTER_SHUFFLE && values >= 1 && value[0] == element_size) {
+      pipeline.push_back(ChunkFilter::kShuffle);
+    } else if (id == H5Z_FILTER_DEFLATE) {
+      pipeline.push_back(ChunkFilter::kDeflate);
+    } else if (id == H5Z_FILTER_FLETCHER32) {
+      pipeline.push_back(ChunkFilter::kFletcher32);
+    } else {
+      return false;
+    }
+  }
+  return true;
+}
+
+}  // namespace
+
+bool Reader::read_chunks_on_threads(hid_t dataset,
+                                    const std::string& path,
+                                    hid_t memory_type,
+                                    void* buffer) const {
+  Id file_type(H5Dget_type(dataset), H5Tclose);
+  if (file_type.get() < 0 || !same_layout(file_type.get(), memory_type)) return false;
+  Id dcpl(H5Dget_create_plist(dataset), H5Pclose);
+  if (dcpl.get() < 0 || H5Pget_layout(dcpl.get()) != H5D_CHUNKED) return false;
+  const std::size_t element_size = H5Tget_size(file_type.get());
+  std::vector<ChunkFilter> pipeline;
+  if (!undoable_pipeline(dcpl.get(), element_size, pipeline)) return false;
+  const Shape shape = this->shape(dataset, path);
+  const int rank = static_cast<int>(shape.size());
+  Shape chunk(shape.size());
+  if (rank == 0 || H5Pget_chunk(dcpl.get(), rank, chunk.data()) != rank) return false;
+  const ChunkGrid grid(shape, chunk);
+  if (grid.count() < 2) return false;  // nothing to spread over threads
+  // A chunk never written holds the fill value, which only HDF5's own read supplies.
+  Id space(H5Dget_space(dataset), H5Sclose);
+  hsize_t stored_chunks = 0;
+  if (space.get() < 0 || H5Dget_num_chunks(dataset, space.get(), &stored_chunks) < 0 ||
+      stored_chunks != grid.count()) {
+    return false;
+  }
+  const std::size_t chunk_bytes = grid.chunk_elements() * element_size;
+  auto* values = static_cast<std::uint8_t*>(buffer);
+  // Batches bound the stored bytes held at once (about 64 MiB, more where chunks compress).
+  const std::size_t workers = worker_count(threads_, grid.count());
+  const std::size_t batch = std::max(workers, (std::size_t{64} << 20) / chunk_bytes);
+  std::vector<std::vector<std::uint8_t>> stored(std::min(batch, grid.count()));
+  std::vector<std::uint32_t> masks(stored.size());
+  for (std::size_t first = 0; first < grid.count(); first += batch) {
+    const std::size_t n = std::min(batch, grid.count() - first);
+    for (std::size_t i = 0; i < n; ++i) {
+      const Shape origin = grid.origin(first + i);
+      hsize_t bytes = 0;
+      if (H5Dget_chunk_storage_size(dataset, origin.data(), &bytes) < 0) return false;
+      stored[i].resize(bytes);
+      if (H5Dread_chunk(dataset, H5P_DEFAULT, origin.data(), &masks[i], stored[i].data()) < 0) {
+        return false;
+      }
+    }
+    std::atomic<bool> undone{true};
+    parallel_blocks(n, workers, [&](std::size_t begin, std::size_t end, std::size_t) {
+      for (std::size_t i = begin; i < end && undone; ++i) {
+        try {
+          const std::vector<std::uint8_t> chunk_values =
+              unfilter_chunk(std::move(stored[i]), pipeline, masks[i], chunk_bytes, element_size);
+          grid.scatter(chunk_values.data(), first + i, element_size, values);
+        } catch (const DamagedChunk&) {
+          undone = false;
+        }
+      }
+    });
+    if (!undone) return false;
+  }
+  return true;
+}
+
 void Reader::read_raw(hid_t dataset,
                       const std::string& path,
                       hid_t memory_type,
                       void* buffer) const {
+  if (read_chunks_on_threads(dataset, path, memory_type, buffer)) return;
   if (H5Dread(dataset, memory_type, H5S_ALL, H5S_ALL, H5P_DEFAULT, buffer) < 0) {
     fail(path, with_cause("cannot be read (damaged or truncated file?)"));
   }

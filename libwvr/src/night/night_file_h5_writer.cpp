@@ -14,6 +14,7 @@
 
 #include "core/parallel_for.hpp"
 #include "night/chunk_filters.hpp"
+#include "night/chunk_layout.hpp"
 #include "night/night_file_h5.hpp"
 #include "wvr/error.hpp"
 
@@ -296,55 +297,6 @@ Id Writer::write_array(const std::string& path,
   return dataset;
 }
 
-namespace {
-
-bool same_layout(hid_t file_type, hid_t memory_type) {
-  const H5T_class_t type_class = H5Tget_class(file_type);
-  if (type_class != H5Tget_class(memory_type) || H5Tget_size(file_type) != H5Tget_size(memory_type))
-    return false;
-  if (type_class == H5T_FLOAT) return H5Tget_order(file_type) == H5Tget_order(memory_type);
-  if (type_class == H5T_INTEGER)
-    return H5Tget_order(file_type) == H5Tget_order(memory_type) &&
-           H5Tget_sign(file_type) == H5Tget_sign(memory_type);
-  return false;
-}
-
-// Copies the chunk at element offsets `origin` of a row-major array of `shape` into `out`
-// (row-major in the chunk's shape, already zeroed: HDF5 fills the part of an edge chunk
-// outside the dataset with the fill value, 0).
-void gather_chunk(const std::uint8_t* data,
-                  const Shape& shape,
-                  const Shape& chunk,
-                  const Shape& origin,
-                  std::size_t element_size,
-                  std::uint8_t* out) {
-  const std::size_t rank = shape.size();
-  const hsize_t row_elements = std::min(chunk[rank - 1], shape[rank - 1] - origin[rank - 1]);
-  Shape index(rank, 0);  // position within the chunk; the last axis is copied as a row
-  while (true) {
-    bool inside = true;
-    std::size_t source = 0, target = 0;
-    for (std::size_t d = 0; d < rank; ++d) {
-      inside = inside && origin[d] + index[d] < shape[d];
-      source = source * shape[d] + origin[d] + index[d];
-      target = target * chunk[d] + index[d];
-    }
-    if (inside) {
-      std::memcpy(out + target * element_size, data + source * element_size,
-                  row_elements * element_size);
-    }
-    std::size_t d = rank - 1;  // next row: advance the axes before the last
-    while (d > 0) {
-      if (++index[d - 1] < chunk[d - 1]) break;
-      index[d - 1] = 0;
-      --d;
-    }
-    if (d == 0) return;
-  }
-}
-
-}  // namespace
-
 bool Writer::write_filtered_chunks(const std::string& path,
                                    hid_t dataset,
                                    hid_t file_type,
@@ -353,24 +305,11 @@ bool Writer::write_filtered_chunks(const std::string& path,
                                    const Shape& shape,
                                    const Shape& chunk) const {
   if (!same_layout(file_type, memory_type)) return false;
-  const std::size_t rank = shape.size();
   const std::size_t element_size = H5Tget_size(file_type);
-  Shape grid(rank);
-  std::size_t chunk_count = 1;
-  for (std::size_t d = 0; d < rank; ++d) {
-    grid[d] = (shape[d] + chunk[d] - 1) / chunk[d];
-    chunk_count *= grid[d];
-  }
-  const std::size_t chunk_bytes = element_count(chunk) * element_size;
+  const ChunkGrid grid(shape, chunk);
+  const std::size_t chunk_count = grid.count();
+  const std::size_t chunk_bytes = grid.chunk_elements() * element_size;
   const auto* bytes = static_cast<const std::uint8_t*>(data);
-  const auto origin_of = [&](std::size_t c) {
-    Shape origin(rank);
-    for (std::size_t d = rank; d-- > 0;) {
-      origin[d] = (c % grid[d]) * chunk[d];
-      c /= grid[d];
-    }
-    return origin;
-  };
   // Batches bound the bytes held at once (about 64 MiB), whatever the core count.
   const std::size_t workers = worker_count(threads_, chunk_count);
   const std::size_t batch = std::max(workers, (std::size_t{64} << 20) / chunk_bytes);
@@ -381,12 +320,12 @@ bool Writer::write_filtered_chunks(const std::string& path,
       std::vector<std::uint8_t> buffer(chunk_bytes);
       for (std::size_t i = begin; i < end; ++i) {
         std::fill(buffer.begin(), buffer.end(), 0);
-        gather_chunk(bytes, shape, chunk, origin_of(first + i), element_size, buffer.data());
+        grid.gather(bytes, first + i, element_size, buffer.data());
         filtered[i] = filter_chunk(buffer.data(), chunk_bytes, element_size, gzip_level_);
       }
     });
     for (std::size_t i = 0; i < n; ++i) {
-      const Shape origin = origin_of(first + i);
+      const Shape origin = grid.origin(first + i);
       if (H5Dwrite_chunk(dataset, H5P_DEFAULT, filtered[i].filter_mask, origin.data(),
                          filtered[i].bytes.size(), filtered[i].bytes.data()) < 0) {
         fail(path, "chunk " + std::to_string(first + i) + " cannot be written");

@@ -295,10 +295,10 @@ namespace detail {
 std::atomic<std::size_t> night_file_reads{0};
 }  // namespace detail
 
-Night read_night(const std::filesystem::path& path) {
+Night read_night(const std::filesystem::path& path, const NightReadOptions& options) {
   ++detail::night_file_reads;
   const detail::h5::QuietErrors quiet;
-  const Reader reader(path);
+  const Reader reader(path, options.threads);
   Night night;
   Dims dims;
   read_schema(reader, night);
@@ -315,9 +315,11 @@ Night read_night(const std::filesystem::path& path) {
   return night;
 }
 
-Night read_night(const std::filesystem::path& path, NightFileStamp& stamp) {
+Night read_night(const std::filesystem::path& path,
+                 NightFileStamp& stamp,
+                 const NightReadOptions& options) {
   const NightFileStamp before = detail::current_stamp(path);
-  Night night = read_night(path);
+  Night night = read_night(path, options);
   if (detail::current_stamp(path) != before) {
     throw InvalidInput(path.string() + ": changed while it was being read");
   }

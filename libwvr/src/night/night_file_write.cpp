@@ -442,7 +442,8 @@ void add_result_groups(const fs::path& input,
         existing.insert(stage);
     }
   } else {
-    for (const ResultGroup& group : read_night(input, validated).results)
+    for (const ResultGroup& group :
+         read_night(input, validated, {.threads = options.threads}).results)
       existing.insert(group.stage);
   }
   for (const ResultGroup& group : groups) {
