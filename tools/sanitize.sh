@@ -4,9 +4,9 @@
 #                               suite, then every Python test that runs the skyphase program,
 #                               against the sanitized skyphase. Build in ./build-asan.
 #   tools/sanitize.sh thread    ThreadSanitizer: the C++ tests that run threads (retrieval,
-#                               simulation, calibration, the chunk writer, the night pipeline,
-#                               the wind's pairs, the slab jackknife and the radiometer
-#                               structure function's pairs). Build in ./build-tsan.
+#                               simulation, calibration, the chunk writer and reader, the night
+#                               pipeline, the wind's pairs, the slab jackknife and the
+#                               radiometer structure function's pairs). Build in ./build-tsan.
 # Any report fails the run (halt_on_error); the Python module used by the command-line tests is
 # the regular one in ./build (run tools/build.sh first).
 set -euo pipefail
@@ -52,7 +52,7 @@ case "$mode" in
     cmake --build build-tsan -j"$(nproc)" --target wvr_tests
     export TSAN_OPTIONS=halt_on_error=1:second_deadlock_stack=1
     build-tsan/tests/wvr_tests --gtest_brief=1 \
-      --gtest_filter='*Thread*:*Parallel*:*Streaming*:*NightRetrieval*:*Simulator*:*Calibration*:NightFileChunks.*:NightProcessing.*:StructureFunctionNight.WindPairs*:StructureFunctionNight.Jackknife*:StructureFunctionNight.RadiometerNoise*:RadiometerStructureWithout.*:AntennaPairs.*'
+      --gtest_filter='*Thread*:*Parallel*:*Streaming*:*NightRetrieval*:*Simulator*:*Calibration*:NightFileChunks.*:NightFileChunkReader.*:ChunkFilters.*:NightProcessing.*:StructureFunctionNight.WindPairs*:StructureFunctionNight.Jackknife*:StructureFunctionNight.RadiometerNoise*:RadiometerStructureWithout.*:AntennaPairs.*'
     ;;
   *)
     echo "usage: tools/sanitize.sh [address|thread]" >&2
