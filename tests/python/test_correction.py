@@ -49,6 +49,12 @@ def test_scaling_and_correction_improve_the_calibrator_phases(wet_night):
     for forced in (True, False):
         one = wvr.solve_scaling(night, retrieval, scenario.site, per_antenna_scale=forced)
         assert one.per_antenna_scale is forced and np.isnan(one.antenna_scale_statistic)
+    # scalars() holds exactly the scalar properties, with their values.
+    scalars = cal.scalars()
+    assert list(scalars) == ["scale", "scale_sigma", "per_antenna_scale",
+                             "antenna_scale_statistic", "antenna_scale_threshold"]
+    assert all(value == getattr(cal, name) for name, value in scalars.items())
+    assert type(scalars["per_antenna_scale"]) is bool and type(scalars["scale"]) is float
     corrected, metrics = wvr.correct_night(night, retrieval, scenario.site,
                                            antenna_scale=cal.antenna_scale)
     assert corrected.obs_freq_ghz == pytest.approx(230.0)
@@ -134,11 +140,13 @@ def test_process_night_gives_every_stage_as_typed_results(wet_night, processed):
     assert relaxed.diagnosis.thresholds.cloud_chi2_per_dof == 1e5
 
 
-# Properties of the typed results that their result groups do not store.
+# Properties of the typed results that their result groups do not store (scalars() is a dict of
+# the stored scalars).
 NOT_STORED = {
     "retrieval": {"antennas", "samples", "channels", "windows", "seconds", "summary",
-                  "to_result_group"},
-    "calibration": {"status", "ok", "message", "rows_used", "rows_skipped", "brief_report"},
+                  "to_result_group", "scalars"},
+    "calibration": {"status", "ok", "message", "rows_used", "rows_skipped", "brief_report",
+                    "scalars"},
 }
 
 

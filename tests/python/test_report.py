@@ -180,7 +180,12 @@ def test_report_data_numbers_are_the_typed_results(data, night, processed):
     for key in ("antenna_scale_statistic", "antenna_scale_threshold"):  # NaN when forced: None
         value = getattr(calibration, key)
         assert data["calibration"][key] == (value if np.isfinite(value) else None), key
-    assert data["retrieval"]["pwv_median_mm"] == processed.retrieval.summary()["pwv_median_mm"]
+    summary = processed.retrieval.summary()
+    assert set(data["retrieval"]) == set(summary) | {"coefficient_windows"}
+    assert data["retrieval"]["pwv_median_mm"] == summary["pwv_median_mm"]
+    assert data["retrieval"]["samples"] == summary["samples"]
+    assert data["retrieval"]["path_sensitivity_k_per_mm"] == list(
+        summary["path_sensitivity_k_per_mm"])
     windows = processed.diagnosis.windows
     assert len(data["windows"]) == len(windows) == len(night.scans)
     for row, window in zip(data["windows"], windows):

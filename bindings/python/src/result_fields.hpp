@@ -1,6 +1,7 @@
 #pragma once
 // Python properties of a result type from its field table (wvr/result_fields.hpp): arrays as
-// read-only numpy views owned by the result object (no copy), scalars as float or bool.
+// read-only numpy views owned by the result object (no copy), scalars as float or bool, and a
+// scalars() dict of the scalar fields for callers that copy them all.
 
 #include <pybind11/pybind11.h>
 
@@ -56,6 +57,22 @@ void bind_result_fields(py::class_<Result, Options...>& cls,
         },
         field.member);
   }
+  cls.def(
+      "scalars",
+      [fields](const Result& r) {
+        py::dict scalars;
+        for (const ResultArrayField<Result>& field : fields) {
+          std::visit(
+              [&](auto member) {
+                using Member = std::decay_t<decltype(std::declval<const Result&>().*member)>;
+                if constexpr (std::is_arithmetic_v<Member>) scalars[field.name] = r.*member;
+              },
+              field.member);
+        }
+        return scalars;
+      },
+      "The scalar fields as a dict, name -> float or bool, in the field table's order (the "
+      "properties of the same names).");
 }
 
 }  // namespace wvr::python

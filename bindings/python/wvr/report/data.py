@@ -69,33 +69,34 @@ def _night_section(night, name, night_file, epoch):
 
 
 def _retrieval_section(retrieval):
-    summary = retrieval.summary()
-    return {
-        "pwv_median_mm": _number(summary["pwv_median_mm"]),
-        "pwv_p10_mm": _number(summary["pwv_p10_mm"]),
-        "pwv_p90_mm": _number(summary["pwv_p90_mm"]),
-        "chi2_per_dof_median": _number(summary["chi2_per_dof_median"]),
-        "samples": int(summary["samples"]),
-        "samples_flagged": int(summary["samples_flagged"]),
-        "coefficient_windows": int(retrieval.windows),
-    }
+    section = {}
+    # Every key of the summary's field table: counts as int, values as float or None, per-channel
+    # values as lists.
+    for name, value in retrieval.summary().items():
+        if isinstance(value, int):
+            section[name] = value
+        elif np.ndim(value):
+            section[name] = _numbers(value)
+        else:
+            section[name] = _number(value)
+    section["coefficient_windows"] = int(retrieval.windows)
+    return section
 
 
 def _calibration_section(calibration):
     if calibration is None:
         return None
-    return {
+    section = {
         "status": calibration.status,
         "ok": bool(calibration.ok),
         "message": calibration.message,
-        "scale": _number(calibration.scale),
-        "scale_sigma": _number(calibration.scale_sigma),
-        "per_antenna_scale": bool(calibration.per_antenna_scale),
-        "antenna_scale_statistic": _number(calibration.antenna_scale_statistic),
-        "antenna_scale_threshold": _number(calibration.antenna_scale_threshold),
-        "rows_used": int(calibration.rows_used),
-        "rows_skipped": int(calibration.rows_skipped),
     }
+    # Every scalar of the result's field table, under its own name.
+    for name, value in calibration.scalars().items():
+        section[name] = value if isinstance(value, bool) else _number(value)
+    section["rows_used"] = int(calibration.rows_used)
+    section["rows_skipped"] = int(calibration.rows_skipped)
+    return section
 
 
 def _correction_section(processed):
