@@ -109,7 +109,8 @@ std::vector<double> values_for(const Hdf5Written& d) {
   std::size_t n = 1;
   for (hsize_t s : d.shape) n *= s;
   std::vector<double> v(n);
-  for (std::size_t i = 0; i < n; ++i) v[i] = d.integers ? double(i % 1000) - 500.0 : 1e-3 * i - 7.5;
+  for (std::size_t i = 0; i < n; ++i)
+    v[i] = d.integers ? double(i % 1000) - 500.0 : 1e-3 * static_cast<double>(i) - 7.5;
   return v;
 }
 
