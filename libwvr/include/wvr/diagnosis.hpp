@@ -162,13 +162,16 @@ struct NightDiagnosis {
 
 // `retrieval` and `paths` cover the night; `metrics.corrected_phase_rad` holds the corrected
 // calibrator phases (evaluate_correction, with the calibration's scales). Never throws for
-// missing data (windows say "cannot judge"); throws InvalidInput for mismatched shapes.
+// missing data (windows say "cannot judge"); throws InvalidInput for mismatched shapes and a
+// negative thread count. Scans are judged on `threads` threads (0 = all cores); the result does
+// not depend on the count.
 NightDiagnosis diagnose_night(const Night& night,
                               const NightRetrieval& retrieval,
                               const AntennaPaths& paths,
                               const CorrectionMetrics& metrics,
                               const PhasePerPath& phase_per_path,
-                              const DiagnosisThresholds& thresholds = {});
+                              const DiagnosisThresholds& thresholds = {},
+                              int threads = 0);
 
 ResultGroup diagnosis_result_group(const NightDiagnosis& diagnosis);
 

@@ -7,6 +7,7 @@
 #include <numbers>
 #include <sstream>
 
+#include "core/parallel_for.hpp"
 #include "core/phase_wrap.hpp"
 #include "core/statistics.hpp"
 #include "diagnosis/inheritance.hpp"
@@ -220,8 +221,12 @@ NightDiagnosis diagnose_night(const Night& night,
                               const AntennaPaths& paths,
                               const CorrectionMetrics& metrics,
                               const PhasePerPath& phase_per_path,
-                              const DiagnosisThresholds& th) {
+                              const DiagnosisThresholds& th,
+                              int threads) {
   th.validate();
+  if (threads < 0) throw InvalidInput("threads = " + std::to_string(threads) + " is negative");
+  // Scans are judged independently, each on one thread; the results do not depend on the count.
+  const std::size_t workers = detail::worker_count(threads, night.scans.size());
   const std::size_t na = night.antenna_count(), nt = night.time_count();
   if (r.antennas != na || r.samples != nt || paths.antennas != na || paths.time_s.size() != nt) {
     throw InvalidInput(
@@ -233,7 +238,6 @@ NightDiagnosis diagnose_night(const Night& night,
         "diagnosis: corrected phases do not match the night's calibrator phase rows");
   }
   NightDiagnosis d;
-  std::vector<bool> radiometer_judged;  // [window]: own radiometer evidence, no array fault
   d.antenna_names = night.array.antenna_names;
   d.thresholds = th;
   if (cp.time_s.empty())
@@ -260,11 +264,12 @@ NightDiagnosis diagnose_night(const Night& night,
         scan_rows[s].push_back(i);
     }
   }
-  std::map<double, double> k_cache;
-  auto k_of = [&](double f) {
-    auto it = k_cache.find(f);
-    if (it == k_cache.end()) {
-      it = k_cache
+  // Phase per mm of path at a frequency, from a cache of the frequencies met so far (one per
+  // thread).
+  auto k_of = [&](std::map<double, double>& cache, double f) {
+    auto it = cache.find(f);
+    if (it == cache.end()) {
+      it = cache
                .emplace(f, kTwoPi * f * 1e9 / constants::speed_of_light_m_per_s * 1e-3 *
                                phase_per_path(f))
                .first;
@@ -279,19 +284,25 @@ NightDiagnosis diagnose_night(const Night& night,
   // And the median chi2 of each antenna's slow drift in every scan.
   std::vector<std::vector<double>> scan_drift_chi2(night.scans.size(), std::vector<double>(na));
   {
+    detail::parallel_blocks(
+        night.scans.size(), workers, [&](std::size_t first, std::size_t end, std::size_t) {
+          for (std::size_t s = first; s < end; ++s) {
+            const std::size_t k0 = sample_index(night.scans[s].start_s),
+                              k1 = sample_index(night.scans[s].stop_s);
+            OutsideDomain unused_outside;
+            for (std::size_t a = 0; a < na; ++a) {
+              antenna_radiometer_faults(night, r, evidence.chi2_per_dof, a, k0, k1, std::nan(""),
+                                        th, scan_chi2[s][a], unused_outside);
+              const auto drift =
+                  evidence.drift_chi2_per_dof.begin() + static_cast<std::ptrdiff_t>(a * nt);
+              scan_drift_chi2[s][a] = detail::finite_median(
+                  std::vector<double>(drift + static_cast<std::ptrdiff_t>(k0),
+                                      drift + static_cast<std::ptrdiff_t>(k1)));
+            }
+          }
+        });
     std::vector<std::vector<double>> relative(na);
     for (std::size_t s = 0; s < night.scans.size(); ++s) {
-      const std::size_t k0 = sample_index(night.scans[s].start_s),
-                        k1 = sample_index(night.scans[s].stop_s);
-      OutsideDomain unused_outside;
-      for (std::size_t a = 0; a < na; ++a) {
-        antenna_radiometer_faults(night, r, evidence.chi2_per_dof, a, k0, k1, std::nan(""), th,
-                                  scan_chi2[s][a], unused_outside);
-        const auto drift =
-            evidence.drift_chi2_per_dof.begin() + static_cast<std::ptrdiff_t>(a * nt);
-        scan_drift_chi2[s][a] = detail::finite_median(std::vector<double>(
-            drift + static_cast<std::ptrdiff_t>(k0), drift + static_cast<std::ptrdiff_t>(k1)));
-      }
       const double array_chi2 = detail::finite_median(scan_chi2[s]);
       for (std::size_t a = 0; a < na; ++a) relative[a].push_back(scan_chi2[s][a] / array_chi2);
     }
@@ -300,286 +311,304 @@ NightDiagnosis diagnose_night(const Night& night,
       if (std::isfinite(level)) usual_level[a] = std::clamp(level, 1.0, 0.5 * th.fault_chi2_ratio);
     }
   }
-  // Rows of each baseline within a window; reused from window to window (a map per window
-  // cost more than the statistics on nights with every baseline).
-  std::vector<std::vector<std::size_t>> by_baseline(na * na);
-  std::vector<std::size_t> baselines_seen;
-  for (std::size_t s = 0; s < night.scans.size(); ++s) {
-    const Scan& scan = night.scans[s];
-    WindowDiagnosis w;
-    w.start_s = scan.start_s;
-    w.stop_s = scan.stop_s;
-    w.calibrator = scan.intent == ScanIntent::kCalibrator;
-    w.antenna_faults.assign(na, 0);
-    const std::size_t k0 = sample_index(scan.start_s), k1 = sample_index(scan.stop_s);
-    // Radiometer evidence: chi2 per antenna, then faults against the array median, each
-    // antenna allowed its own usual level.
-    const std::vector<double>& chi2 = scan_chi2[s];
-    const double array_chi2 = detail::finite_median(chi2);
-    const double array_drift_chi2 = detail::finite_median(scan_drift_chi2[s]);
-    double unused = 0.0;
-    std::size_t cloudy = 0, judged = 0;
-    // Samples outside the retrieval's domain, over the scan's antennas, and the antennas
-    // outside it for more of the scan than would flag a unit's dropouts.
-    OutsideDomain scan_outside;
-    std::vector<std::size_t> antennas_outside;
-    for (std::size_t a = 0; a < na; ++a) {
-      OutsideDomain outside;
-      w.antenna_faults[a] =
-          antenna_radiometer_faults(night, r, evidence.chi2_per_dof, a, k0, k1,
-                                    array_chi2 * usual_level[a], th, unused, outside);
-      scan_outside.elevation += outside.elevation;
-      scan_outside.sky += outside.sky;
-      scan_outside.lowest_elevation_deg =
-          std::min(scan_outside.lowest_elevation_deg, outside.lowest_elevation_deg);
-      if (static_cast<double>(outside.samples()) >
-          th.fault_unusable_fraction * static_cast<double>(k1 - k0))
-        antennas_outside.push_back(a);
-      // A unit whose slow drift (taken out of the evidence above) stands out from the array's
-      // as a short excursion would.
-      const double drift_chi2 = scan_drift_chi2[s][a];
-      if (drift_chi2 > th.fault_chi2_ratio * array_drift_chi2 &&
-          drift_chi2 > 0.5 * th.cloud_chi2_per_dof) {
-        w.antenna_faults[a] |= kFaultInconsistent;
-      }
-      if (std::isfinite(chi2[a])) {
-        ++judged;
-        if (chi2[a] > th.cloud_chi2_per_dof) ++cloudy;
-      }
-    }
-    w.chi2_per_dof = array_chi2;
-    const bool cloud = judged > 0 && static_cast<double>(cloudy) >=
-                                         th.cloud_antenna_fraction * static_cast<double>(judged);
-    if (cloud) {
-      // A cloud raises every antenna's chi2: not an antenna fault.
-      for (auto& f : w.antenna_faults) f &= static_cast<std::uint8_t>(~kFaultInconsistent);
-    }
-    // Phase evidence per baseline (as stored, a * na + b), baselines in increasing order.
-    for (std::size_t pair : baselines_seen) by_baseline[pair].clear();
-    baselines_seen.clear();
-    for (std::size_t i : scan_rows[s]) {
-      const auto [a, b] = cp.antenna_pair[i];
-      if (a < 0 || b < 0 || static_cast<std::size_t>(a) >= na || static_cast<std::size_t>(b) >= na)
-        continue;
-      if (!std::isfinite(metrics.corrected_phase_rad[i])) continue;
-      const std::size_t pair = static_cast<std::size_t>(a) * na + static_cast<std::size_t>(b);
-      if (by_baseline[pair].empty()) baselines_seen.push_back(pair);
-      by_baseline[pair].push_back(i);
-    }
-    std::sort(baselines_seen.begin(), baselines_seen.end());
-    std::vector<BaselineWindow> baselines;
-    for (std::size_t pair : baselines_seen) {
-      const std::vector<std::size_t>& rows = by_baseline[pair];
-      if (rows.size() < 5) continue;
-      BaselineWindow bw;
-      bw.a = pair / na;
-      bw.b = pair % na;
-      bw.n = rows.size();
-      double cb = 0, sb = 0, ca = 0, sa = 0;
-      for (std::size_t i : rows) {
-        cb += std::cos(cp.phase_rad[i]);
-        sb += std::sin(cp.phase_rad[i]);
-        ca += std::cos(metrics.corrected_phase_rad[i]);
-        sa += std::sin(metrics.corrected_phase_rad[i]);
-      }
-      const double mean_before = std::atan2(sb, cb), mean_after = std::atan2(sa, ca);
-      std::vector<double> obs, pred;
-      double s2b = 0, s2a = 0, sd = 0, prev = std::nan("");
-      std::size_t nd = 0;
-      for (std::size_t i : rows) {
-        const double db = detail::wrap_phase_rad(cp.phase_rad[i] - mean_before);
-        const double da = detail::wrap_phase_rad(metrics.corrected_phase_rad[i] - mean_after);
-        s2b += db * db;
-        s2a += da * da;
-        if (std::isfinite(prev)) {
-          const double step = detail::wrap_phase_rad(da - prev);
-          sd += step * step;
-          ++nd;
+  d.windows.resize(night.scans.size());
+  // [window]: own radiometer evidence, no array fault; bytes, as threads write their own.
+  std::vector<std::uint8_t> judged_on_own(night.scans.size(), 0);
+  detail::parallel_blocks(
+      night.scans.size(), workers, [&](std::size_t first, std::size_t end, std::size_t) {
+        // Rows of each baseline within a window; reused from window to window (a map per window
+        // cost more than the statistics on nights with every baseline).
+        std::vector<std::vector<std::size_t>> by_baseline(na * na);
+        std::vector<std::size_t> baselines_seen;
+        std::map<double, double> k_cache;
+        for (std::size_t s = first; s < end; ++s) {
+          const Scan& scan = night.scans[s];
+          WindowDiagnosis w;
+          w.start_s = scan.start_s;
+          w.stop_s = scan.stop_s;
+          w.calibrator = scan.intent == ScanIntent::kCalibrator;
+          w.antenna_faults.assign(na, 0);
+          const std::size_t k0 = sample_index(scan.start_s), k1 = sample_index(scan.stop_s);
+          // Radiometer evidence: chi2 per antenna, then faults against the array median, each
+          // antenna allowed its own usual level.
+          const std::vector<double>& chi2 = scan_chi2[s];
+          const double array_chi2 = detail::finite_median(chi2);
+          const double array_drift_chi2 = detail::finite_median(scan_drift_chi2[s]);
+          double unused = 0.0;
+          std::size_t cloudy = 0, judged = 0;
+          // Samples outside the retrieval's domain, over the scan's antennas, and the antennas
+          // outside it for more of the scan than would flag a unit's dropouts.
+          OutsideDomain scan_outside;
+          std::vector<std::size_t> antennas_outside;
+          for (std::size_t a = 0; a < na; ++a) {
+            OutsideDomain outside;
+            w.antenna_faults[a] =
+                antenna_radiometer_faults(night, r, evidence.chi2_per_dof, a, k0, k1,
+                                          array_chi2 * usual_level[a], th, unused, outside);
+            scan_outside.elevation += outside.elevation;
+            scan_outside.sky += outside.sky;
+            scan_outside.lowest_elevation_deg =
+                std::min(scan_outside.lowest_elevation_deg, outside.lowest_elevation_deg);
+            if (static_cast<double>(outside.samples()) >
+                th.fault_unusable_fraction * static_cast<double>(k1 - k0))
+              antennas_outside.push_back(a);
+            // A unit whose slow drift (taken out of the evidence above) stands out from the array's
+            // as a short excursion would.
+            const double drift_chi2 = scan_drift_chi2[s][a];
+            if (drift_chi2 > th.fault_chi2_ratio * array_drift_chi2 &&
+                drift_chi2 > 0.5 * th.cloud_chi2_per_dof) {
+              w.antenna_faults[a] |= kFaultInconsistent;
+            }
+            if (std::isfinite(chi2[a])) {
+              ++judged;
+              if (chi2[a] > th.cloud_chi2_per_dof) ++cloudy;
+            }
+          }
+          w.chi2_per_dof = array_chi2;
+          const bool cloud =
+              judged > 0 && static_cast<double>(cloudy) >=
+                                th.cloud_antenna_fraction * static_cast<double>(judged);
+          if (cloud) {
+            // A cloud raises every antenna's chi2: not an antenna fault.
+            for (auto& f : w.antenna_faults) f &= static_cast<std::uint8_t>(~kFaultInconsistent);
+          }
+          // Phase evidence per baseline (as stored, a * na + b), baselines in increasing order.
+          for (std::size_t pair : baselines_seen) by_baseline[pair].clear();
+          baselines_seen.clear();
+          for (std::size_t i : scan_rows[s]) {
+            const auto [a, b] = cp.antenna_pair[i];
+            if (a < 0 || b < 0 || static_cast<std::size_t>(a) >= na ||
+                static_cast<std::size_t>(b) >= na)
+              continue;
+            if (!std::isfinite(metrics.corrected_phase_rad[i])) continue;
+            const std::size_t pair = static_cast<std::size_t>(a) * na + static_cast<std::size_t>(b);
+            if (by_baseline[pair].empty()) baselines_seen.push_back(pair);
+            by_baseline[pair].push_back(i);
+          }
+          std::sort(baselines_seen.begin(), baselines_seen.end());
+          std::vector<BaselineWindow> baselines;
+          for (std::size_t pair : baselines_seen) {
+            const std::vector<std::size_t>& rows = by_baseline[pair];
+            if (rows.size() < 5) continue;
+            BaselineWindow bw;
+            bw.a = pair / na;
+            bw.b = pair % na;
+            bw.n = rows.size();
+            double cb = 0, sb = 0, ca = 0, sa = 0;
+            for (std::size_t i : rows) {
+              cb += std::cos(cp.phase_rad[i]);
+              sb += std::sin(cp.phase_rad[i]);
+              ca += std::cos(metrics.corrected_phase_rad[i]);
+              sa += std::sin(metrics.corrected_phase_rad[i]);
+            }
+            const double mean_before = std::atan2(sb, cb), mean_after = std::atan2(sa, ca);
+            std::vector<double> obs, pred;
+            double s2b = 0, s2a = 0, sd = 0, prev = std::nan("");
+            std::size_t nd = 0;
+            for (std::size_t i : rows) {
+              const double db = detail::wrap_phase_rad(cp.phase_rad[i] - mean_before);
+              const double da = detail::wrap_phase_rad(metrics.corrected_phase_rad[i] - mean_after);
+              s2b += db * db;
+              s2a += da * da;
+              if (std::isfinite(prev)) {
+                const double step = detail::wrap_phase_rad(da - prev);
+                sd += step * step;
+                ++nd;
+              }
+              prev = da;
+              obs.push_back(db);
+              // Predicted = observed minus corrected (the radiometer phase), wrapped about its
+              // mean.
+              pred.push_back(
+                  detail::wrap_phase_rad(cp.phase_rad[i] - metrics.corrected_phase_rad[i]));
+            }
+            // Circular mean: an absolute radiometer path (offsets, a model that differs from the
+            // sky) can put the predicted phase near +/-pi, where an arithmetic mean of wrapped
+            // values fails.
+            double pc = 0.0, ps = 0.0;
+            for (double p : pred) {
+              pc += std::cos(p);
+              ps += std::sin(p);
+            }
+            const double pm = std::atan2(ps, pc);
+            double sxy = 0, sxx = 0, syy = 0;
+            for (std::size_t j = 0; j < pred.size(); ++j) {
+              const double x = detail::wrap_phase_rad(pred[j] - pm);
+              sxy += x * obs[j];
+              sxx += x * x;
+              syy += obs[j] * obs[j];
+            }
+            bw.rms_before = std::sqrt(s2b / static_cast<double>(bw.n));
+            bw.rms_after = std::sqrt(s2a / static_cast<double>(bw.n));
+            bw.floor = nd > 0 ? std::sqrt(sd / static_cast<double>(nd) / 2.0) : std::nan("");
+            bw.correlation = sxx > 0 && syy > 0 ? sxy / std::sqrt(sxx * syy) : std::nan("");
+            bw.slope = sxx > 0 ? sxy / sxx : std::nan("");
+            double s2r = 0.0;
+            for (std::size_t j = 0; j < pred.size(); ++j) {
+              const double x = detail::wrap_phase_rad(pred[j] - pm);
+              s2r += (obs[j] - bw.slope * x) * (obs[j] - bw.slope * x);
+            }
+            bw.rms_refit = std::sqrt(s2r / static_cast<double>(bw.n));
+            const double k = k_of(k_cache, cp.freq_ghz[rows.front()]);
+            bw.predicted_rms = std::sqrt(sxx / static_cast<double>(bw.n)) / k * 1000.0;  // um
+            baselines.push_back(bw);
+          }
+          // Antennas whose residual stands out (reference-mode rows name the antenna by baseline).
+          // What is left after correction (dry air, mostly) grows with baseline length, so each
+          // baseline is compared with the array's trend at its length, not with the array median:
+          // otherwise the longest baselines would look faulty whenever dry turbulence is up.
+          std::vector<detail::BaselineResidual> residuals;
+          std::vector<double> per_antenna_after(na, std::nan(""));
+          {
+            std::vector<std::vector<double>> values(na);
+            for (const BaselineWindow& bw : baselines) {
+              const auto& pa = night.array.position_enu_m[bw.a];
+              const auto& pb = night.array.position_enu_m[bw.b];
+              residuals.push_back(
+                  {bw.a, bw.b, std::hypot(pb[0] - pa[0], pb[1] - pa[1]), bw.rms_after});
+              values[bw.a].push_back(bw.rms_after);
+              values[bw.b].push_back(bw.rms_after);
+            }
+            for (std::size_t a = 0; a < na; ++a)
+              per_antenna_after[a] = detail::finite_median(values[a]);
+          }
+          const std::vector<double> per_antenna_excess =
+              detail::residual_excess(residuals, na, th.fault_residual_ratio);
+          // Not under a cloud: its liquid water, read as vapour, spoils the corrected phase of the
+          // antennas it covers, and covers some more than others; that is the sky, not their units.
+          for (std::size_t a = 0; a < na && !cloud; ++a) {
+            std::vector<double> others;
+            for (const BaselineWindow& bw : baselines) {
+              if (bw.a != a && bw.b != a) others.push_back(bw.floor);
+            }
+            const double floor_ref = detail::finite_median(others);
+            if (std::isfinite(per_antenna_excess[a]) &&
+                per_antenna_excess[a] > th.fault_residual_ratio &&
+                per_antenna_after[a] > th.dry_floor_ratio * floor_ref) {
+              // In reference mode every baseline contains the reference antenna: only flag it when
+              // most baselines are bad, which the array statistics below then show instead.
+              std::size_t containing = 0;
+              for (const BaselineWindow& bw : baselines) containing += (bw.a == a || bw.b == a);
+              if (containing < baselines.size()) w.antenna_faults[a] |= kFaultWorseResidual;
+            }
+          }
+          // Array statistics over baselines of healthy antennas.
+          std::vector<double> before, after, floors, corr, slopes, pred_rms, refit;
+          for (const BaselineWindow& bw : baselines) {
+            if (w.antenna_faults[bw.a] || w.antenna_faults[bw.b]) continue;
+            before.push_back(bw.rms_before);
+            after.push_back(bw.rms_after);
+            floors.push_back(bw.floor);
+            corr.push_back(bw.correlation);
+            slopes.push_back(bw.slope);
+            pred_rms.push_back(bw.predicted_rms);
+            refit.push_back(bw.rms_refit);
+          }
+          const double refit_deg = detail::finite_median(refit) * kDeg;
+          w.rms_before_deg = detail::finite_median(before) * kDeg;
+          w.rms_after_deg = detail::finite_median(after) * kDeg;
+          w.floor_deg = detail::finite_median(floors) * kDeg;
+          w.improvement_factor = w.rms_before_deg / w.rms_after_deg;
+          w.correlation = detail::finite_median(corr);
+          w.slope = detail::finite_median(slopes);
+          w.radiometer_path_rms_um = detail::finite_median(pred_rms);
+          std::size_t flagged = 0;
+          for (std::uint8_t f : w.antenna_faults) flagged += f != 0;
+          // One sick radiometer flags its antenna; the array verdict describes the healthy ones
+          // unless too few are left to speak for the array.
+          const bool array_fault =
+              flagged > 0 &&
+              static_cast<double>(flagged) > th.fault_array_fraction * static_cast<double>(na);
+          const bool healthy_baselines = !before.empty();
+          // Too much of the array outside the retrieval's domain: there is no radiometer path to
+          // judge, which says nothing about the units or the sky's turbulence.
+          const bool array_outside =
+              !antennas_outside.empty() && static_cast<double>(antennas_outside.size()) >
+                                               th.fault_array_fraction * static_cast<double>(na);
+          const std::string outside_text =
+              scan_outside.samples() > 0
+                  ? describe_outside_domain(scan_outside, na * (k1 - k0), r.table_min_elevation_deg)
+                  : std::string();
+          std::ostringstream reason;
+          reason.precision(3);
+          if (array_outside) {
+            w.verdict = Verdict::kOutsideDomain;
+            reason << outside_text << ": no radiometer path for " << antennas_outside.size()
+                   << " of " << na << " antennas";
+          } else if (judged == 0) {
+            w.verdict = Verdict::kCannotJudge;
+            reason << "no usable radiometer sample";
+          } else if (cloud) {
+            w.verdict = Verdict::kCloud;
+            reason << "the radiometer residual changed: " << cloudy << " of " << judged
+                   << " antennas have chi2/dof above " << th.cloud_chi2_per_dof
+                   << " against the floor (median " << array_chi2 << ")";
+          } else if (array_fault) {
+            w.verdict = Verdict::kRadiometerFault;
+            reason << flagged << " of " << na
+                   << " antennas flagged, too few healthy ones to judge the sky";
+          } else if (!w.calibrator) {
+            w.verdict = Verdict::kCannotJudge;
+            reason << "target scan: no calibrator phases";
+          } else if (baselines.empty()) {
+            w.verdict = Verdict::kCannotJudge;
+            reason << "no usable calibrator phases";
+          } else if (!healthy_baselines) {
+            w.verdict = Verdict::kCannotJudge;
+            reason << "every baseline with phases contains a flagged antenna";
+          } else if (w.rms_before_deg < th.quiet_floor_ratio * w.floor_deg) {
+            w.verdict = Verdict::kQuietSky;
+            reason << "phase rms before " << w.rms_before_deg << " deg is within "
+                   << th.quiet_floor_ratio << " x the floor " << w.floor_deg << " deg";
+          } else if (w.correlation > th.scale_min_correlation &&
+                     refit_deg <= th.quiet_floor_ratio * w.floor_deg &&
+                     (std::abs(w.slope - 1.0) > th.scale_tolerance ||
+                      w.rms_after_deg > th.dry_floor_ratio * w.floor_deg)) {
+            // What correction left is the radiometer prediction itself, at the wrong scale: for the
+            // array (the median slope is off), or per antenna (slopes differ between baselines, as
+            // radiometer gains a few per cent apart make them). Rescaled per baseline, the residual
+            // then falls to the noise floor, which dry air would not let it. Only to the floor: in
+            // a scan of dry turbulence a slope fitted per baseline also takes up the dry phase's
+            // chance correlation with the wet one over a few dozen samples (slopes of 0.5-1.3 in
+            // the mismatched-night test's dry episode), leaving it well above the floor but below
+            // twice it.
+            w.verdict = Verdict::kScaleOff;
+            reason << "correlation " << w.correlation << ", observed/predicted slope " << w.slope
+                   << " (median over baselines); rescaled per baseline, the residual " << refit_deg
+                   << " deg is near the floor " << w.floor_deg << " deg (" << w.rms_after_deg
+                   << " deg as corrected)";
+          } else if (w.rms_after_deg > th.dry_floor_ratio * w.floor_deg) {
+            w.verdict = Verdict::kDryTurbulence;
+            reason << "residual " << w.rms_after_deg << " deg is above " << th.dry_floor_ratio
+                   << " x the floor " << w.floor_deg << " deg; radiometers see "
+                   << w.radiometer_path_rms_um << " um rms, correlation " << w.correlation;
+          } else {
+            w.verdict = Verdict::kCorrected;
+            reason << "phase rms " << w.rms_before_deg << " -> " << w.rms_after_deg
+                   << " deg (floor " << w.floor_deg << " deg), correlation " << w.correlation;
+          }
+          if (!array_outside && !outside_text.empty()) {
+            reason << "; " << outside_text;
+            if (!antennas_outside.empty()) {
+              reason << " (most of the scan:";
+              for (std::size_t a : antennas_outside) reason << " " << night.array.antenna_names[a];
+              reason << ")";
+            }
+          }
+          if (flagged > 0) {
+            reason << "; flagged:";
+            for (std::size_t a = 0; a < na; ++a) {
+              if (w.antenna_faults[a])
+                reason << " " << night.array.antenna_names[a] << " ("
+                       << describe_antenna_faults(w.antenna_faults[a]) << ")";
+            }
+          }
+          judged_on_own[s] = judged > 0 && !array_fault && !array_outside;
+          w.reason = reason.str();
+          d.windows[s] = std::move(w);
         }
-        prev = da;
-        obs.push_back(db);
-        // Predicted = observed minus corrected (the radiometer phase), wrapped about its mean.
-        pred.push_back(detail::wrap_phase_rad(cp.phase_rad[i] - metrics.corrected_phase_rad[i]));
-      }
-      // Circular mean: an absolute radiometer path (offsets, a model that differs from the sky)
-      // can put the predicted phase near +/-pi, where an arithmetic mean of wrapped values fails.
-      double pc = 0.0, ps = 0.0;
-      for (double p : pred) {
-        pc += std::cos(p);
-        ps += std::sin(p);
-      }
-      const double pm = std::atan2(ps, pc);
-      double sxy = 0, sxx = 0, syy = 0;
-      for (std::size_t j = 0; j < pred.size(); ++j) {
-        const double x = detail::wrap_phase_rad(pred[j] - pm);
-        sxy += x * obs[j];
-        sxx += x * x;
-        syy += obs[j] * obs[j];
-      }
-      bw.rms_before = std::sqrt(s2b / static_cast<double>(bw.n));
-      bw.rms_after = std::sqrt(s2a / static_cast<double>(bw.n));
-      bw.floor = nd > 0 ? std::sqrt(sd / static_cast<double>(nd) / 2.0) : std::nan("");
-      bw.correlation = sxx > 0 && syy > 0 ? sxy / std::sqrt(sxx * syy) : std::nan("");
-      bw.slope = sxx > 0 ? sxy / sxx : std::nan("");
-      double s2r = 0.0;
-      for (std::size_t j = 0; j < pred.size(); ++j) {
-        const double x = detail::wrap_phase_rad(pred[j] - pm);
-        s2r += (obs[j] - bw.slope * x) * (obs[j] - bw.slope * x);
-      }
-      bw.rms_refit = std::sqrt(s2r / static_cast<double>(bw.n));
-      const double k = k_of(cp.freq_ghz[rows.front()]);
-      bw.predicted_rms = std::sqrt(sxx / static_cast<double>(bw.n)) / k * 1000.0;  // um
-      baselines.push_back(bw);
-    }
-    // Antennas whose residual stands out (reference-mode rows name the antenna by baseline).
-    // What is left after correction (dry air, mostly) grows with baseline length, so each
-    // baseline is compared with the array's trend at its length, not with the array median:
-    // otherwise the longest baselines would look faulty whenever dry turbulence is up.
-    std::vector<detail::BaselineResidual> residuals;
-    std::vector<double> per_antenna_after(na, std::nan(""));
-    {
-      std::vector<std::vector<double>> values(na);
-      for (const BaselineWindow& bw : baselines) {
-        const auto& pa = night.array.position_enu_m[bw.a];
-        const auto& pb = night.array.position_enu_m[bw.b];
-        residuals.push_back({bw.a, bw.b, std::hypot(pb[0] - pa[0], pb[1] - pa[1]), bw.rms_after});
-        values[bw.a].push_back(bw.rms_after);
-        values[bw.b].push_back(bw.rms_after);
-      }
-      for (std::size_t a = 0; a < na; ++a) per_antenna_after[a] = detail::finite_median(values[a]);
-    }
-    const std::vector<double> per_antenna_excess =
-        detail::residual_excess(residuals, na, th.fault_residual_ratio);
-    // Not under a cloud: its liquid water, read as vapour, spoils the corrected phase of the
-    // antennas it covers, and covers some more than others; that is the sky, not their units.
-    for (std::size_t a = 0; a < na && !cloud; ++a) {
-      std::vector<double> others;
-      for (const BaselineWindow& bw : baselines) {
-        if (bw.a != a && bw.b != a) others.push_back(bw.floor);
-      }
-      const double floor_ref = detail::finite_median(others);
-      if (std::isfinite(per_antenna_excess[a]) && per_antenna_excess[a] > th.fault_residual_ratio &&
-          per_antenna_after[a] > th.dry_floor_ratio * floor_ref) {
-        // In reference mode every baseline contains the reference antenna: only flag it when
-        // most baselines are bad, which the array statistics below then show instead.
-        std::size_t containing = 0;
-        for (const BaselineWindow& bw : baselines) containing += (bw.a == a || bw.b == a);
-        if (containing < baselines.size()) w.antenna_faults[a] |= kFaultWorseResidual;
-      }
-    }
-    // Array statistics over baselines of healthy antennas.
-    std::vector<double> before, after, floors, corr, slopes, pred_rms, refit;
-    for (const BaselineWindow& bw : baselines) {
-      if (w.antenna_faults[bw.a] || w.antenna_faults[bw.b]) continue;
-      before.push_back(bw.rms_before);
-      after.push_back(bw.rms_after);
-      floors.push_back(bw.floor);
-      corr.push_back(bw.correlation);
-      slopes.push_back(bw.slope);
-      pred_rms.push_back(bw.predicted_rms);
-      refit.push_back(bw.rms_refit);
-    }
-    const double refit_deg = detail::finite_median(refit) * kDeg;
-    w.rms_before_deg = detail::finite_median(before) * kDeg;
-    w.rms_after_deg = detail::finite_median(after) * kDeg;
-    w.floor_deg = detail::finite_median(floors) * kDeg;
-    w.improvement_factor = w.rms_before_deg / w.rms_after_deg;
-    w.correlation = detail::finite_median(corr);
-    w.slope = detail::finite_median(slopes);
-    w.radiometer_path_rms_um = detail::finite_median(pred_rms);
-    std::size_t flagged = 0;
-    for (std::uint8_t f : w.antenna_faults) flagged += f != 0;
-    // One sick radiometer flags its antenna; the array verdict describes the healthy ones
-    // unless too few are left to speak for the array.
-    const bool array_fault = flagged > 0 && static_cast<double>(flagged) >
-                                                th.fault_array_fraction * static_cast<double>(na);
-    const bool healthy_baselines = !before.empty();
-    // Too much of the array outside the retrieval's domain: there is no radiometer path to
-    // judge, which says nothing about the units or the sky's turbulence.
-    const bool array_outside =
-        !antennas_outside.empty() && static_cast<double>(antennas_outside.size()) >
-                                         th.fault_array_fraction * static_cast<double>(na);
-    const std::string outside_text =
-        scan_outside.samples() > 0
-            ? describe_outside_domain(scan_outside, na * (k1 - k0), r.table_min_elevation_deg)
-            : std::string();
-    std::ostringstream reason;
-    reason.precision(3);
-    if (array_outside) {
-      w.verdict = Verdict::kOutsideDomain;
-      reason << outside_text << ": no radiometer path for " << antennas_outside.size() << " of "
-             << na << " antennas";
-    } else if (judged == 0) {
-      w.verdict = Verdict::kCannotJudge;
-      reason << "no usable radiometer sample";
-    } else if (cloud) {
-      w.verdict = Verdict::kCloud;
-      reason << "the radiometer residual changed: " << cloudy << " of " << judged
-             << " antennas have chi2/dof above " << th.cloud_chi2_per_dof
-             << " against the floor (median " << array_chi2 << ")";
-    } else if (array_fault) {
-      w.verdict = Verdict::kRadiometerFault;
-      reason << flagged << " of " << na
-             << " antennas flagged, too few healthy ones to judge the sky";
-    } else if (!w.calibrator) {
-      w.verdict = Verdict::kCannotJudge;
-      reason << "target scan: no calibrator phases";
-    } else if (baselines.empty()) {
-      w.verdict = Verdict::kCannotJudge;
-      reason << "no usable calibrator phases";
-    } else if (!healthy_baselines) {
-      w.verdict = Verdict::kCannotJudge;
-      reason << "every baseline with phases contains a flagged antenna";
-    } else if (w.rms_before_deg < th.quiet_floor_ratio * w.floor_deg) {
-      w.verdict = Verdict::kQuietSky;
-      reason << "phase rms before " << w.rms_before_deg << " deg is within " << th.quiet_floor_ratio
-             << " x the floor " << w.floor_deg << " deg";
-    } else if (w.correlation > th.scale_min_correlation &&
-               refit_deg <= th.quiet_floor_ratio * w.floor_deg &&
-               (std::abs(w.slope - 1.0) > th.scale_tolerance ||
-                w.rms_after_deg > th.dry_floor_ratio * w.floor_deg)) {
-      // What correction left is the radiometer prediction itself, at the wrong scale: for the
-      // array (the median slope is off), or per antenna (slopes differ between baselines, as
-      // radiometer gains a few per cent apart make them). Rescaled per baseline, the residual
-      // then falls to the noise floor, which dry air would not let it. Only to the floor: in a
-      // scan of dry turbulence a slope fitted per baseline also takes up the dry phase's chance
-      // correlation with the wet one over a few dozen samples (slopes of 0.5-1.3 in the
-      // mismatched-night test's dry episode), leaving it well above the floor but below twice it.
-      w.verdict = Verdict::kScaleOff;
-      reason << "correlation " << w.correlation << ", observed/predicted slope " << w.slope
-             << " (median over baselines); rescaled per baseline, the residual " << refit_deg
-             << " deg is near the floor " << w.floor_deg << " deg (" << w.rms_after_deg
-             << " deg as corrected)";
-    } else if (w.rms_after_deg > th.dry_floor_ratio * w.floor_deg) {
-      w.verdict = Verdict::kDryTurbulence;
-      reason << "residual " << w.rms_after_deg << " deg is above " << th.dry_floor_ratio
-             << " x the floor " << w.floor_deg << " deg; radiometers see "
-             << w.radiometer_path_rms_um << " um rms, correlation " << w.correlation;
-    } else {
-      w.verdict = Verdict::kCorrected;
-      reason << "phase rms " << w.rms_before_deg << " -> " << w.rms_after_deg << " deg (floor "
-             << w.floor_deg << " deg), correlation " << w.correlation;
-    }
-    if (!array_outside && !outside_text.empty()) {
-      reason << "; " << outside_text;
-      if (!antennas_outside.empty()) {
-        reason << " (most of the scan:";
-        for (std::size_t a : antennas_outside) reason << " " << night.array.antenna_names[a];
-        reason << ")";
-      }
-    }
-    if (flagged > 0) {
-      reason << "; flagged:";
-      for (std::size_t a = 0; a < na; ++a) {
-        if (w.antenna_faults[a])
-          reason << " " << night.array.antenna_names[a] << " ("
-                 << describe_antenna_faults(w.antenna_faults[a]) << ")";
-      }
-    }
-    radiometer_judged.push_back(judged > 0 && !array_fault && !array_outside);
-    w.reason = reason.str();
-    d.windows.push_back(std::move(w));
-  }
+      });
+  const std::vector<bool> radiometer_judged(judged_on_own.begin(), judged_on_own.end());
   // Antenna faults persist: a window between two windows that flag the same antenna is
   // flagged too (intermittent faults such as spikes need not show in every short scan). The
   // array verdict stays with the healthy antennas.

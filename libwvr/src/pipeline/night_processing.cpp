@@ -264,8 +264,8 @@ NightProcessingResult process_night(const Night& night, const NightProcessingOpt
   clock.mark("correction");
   if (!at_least(options, NightStage::kDiagnosis)) return r;
 
-  r.diagnosis =
-      diagnose_night(night, r.retrieval, r.paths, *r.metrics, r.phase_per_path, options.thresholds);
+  r.diagnosis = diagnose_night(night, r.retrieval, r.paths, *r.metrics, r.phase_per_path,
+                               options.thresholds, options.threads);
   r.result_groups.push_back(diagnosis_result_group(*r.diagnosis));
   clock.mark("diagnosis");
   if (!at_least(options, NightStage::kTurbulence)) return r;

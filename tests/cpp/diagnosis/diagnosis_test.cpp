@@ -3,6 +3,7 @@
 
 #include <gtest/gtest.h>
 
+#include <cstring>
 #include <iostream>
 #include <map>
 
@@ -78,8 +79,11 @@ struct Diagnosed {
   NightDiagnosis diagnosis;
 };
 
-// Simulates the scenario, optionally makes its sky differ from the model, and runs the chain.
-Diagnosed diagnose(const std::string& text, const test::SkyMismatch* mismatch = nullptr) {
+// Simulates the scenario, optionally makes its sky differ from the model, and runs the chain,
+// judging the scans on `threads` threads.
+Diagnosed diagnose(const std::string& text,
+                   const test::SkyMismatch* mismatch = nullptr,
+                   int threads = 0) {
   const Scenario s = parse_scenario(text, "test.toml", test::testdata(""));
   Diagnosed out;
   out.night = simulate_night(s);
@@ -91,9 +95,12 @@ Diagnosed diagnose(const std::string& text, const test::SkyMismatch* mismatch = 
   const CalibrationResult calibration = solve_scaling(out.night, paths, factor);
   const CorrectionMetrics metrics =
       evaluate_correction(out.night, paths, calibration.antenna_scale, factor);
-  out.diagnosis = diagnose_night(out.night, retrieval, paths, metrics, factor);
+  out.diagnosis = diagnose_night(out.night, retrieval, paths, metrics, factor, {}, threads);
   return out;
 }
+
+// The same number to the last bit (NaN equals NaN).
+bool same_bits(double a, double b) { return std::memcmp(&a, &b, sizeof a) == 0; }
 
 void expect_verdicts_match_episodes(const Diagnosed& d, const std::string& title) {
   std::vector<std::string> misses;
@@ -122,6 +129,28 @@ TEST(Diagnosis, VerdictsMatchTheEpisodesOnASkyTheModelDidNotMake) {
   std::cout << floor.describe() << "\n";
   EXPECT_GT(floor.chi2_per_dof_thermal, 20.0);  // thermal noise alone would call it all cloud
   EXPECT_LT(floor.chi2_per_dof_floor, 2.0);
+}
+
+TEST(Diagnosis, TheVerdictsDoNotDependOnTheThreadCount) {
+  const test::SkyMismatch mismatch;
+  const Diagnosed one = diagnose(kEpisodes, &mismatch, 1);
+  const NightDiagnosis three =
+      diagnose(kEpisodes, &mismatch, 3).diagnosis;  // the same simulated night (fixed seed)
+  ASSERT_EQ(one.diagnosis.windows.size(), three.windows.size());
+  ASSERT_GE(three.windows.size(), 3u);
+  for (std::size_t i = 0; i < three.windows.size(); ++i) {
+    const WindowDiagnosis &a = one.diagnosis.windows[i], &b = three.windows[i];
+    EXPECT_EQ(a.verdict, b.verdict) << i;
+    EXPECT_EQ(a.reason, b.reason) << i;
+    EXPECT_EQ(a.inherited, b.inherited) << i;
+    EXPECT_EQ(a.antenna_faults, b.antenna_faults) << i;
+    for (auto member :
+         {&WindowDiagnosis::rms_before_deg, &WindowDiagnosis::rms_after_deg,
+          &WindowDiagnosis::floor_deg, &WindowDiagnosis::correlation, &WindowDiagnosis::slope,
+          &WindowDiagnosis::chi2_per_dof, &WindowDiagnosis::radiometer_path_rms_um}) {
+      EXPECT_TRUE(same_bits(a.*member, b.*member)) << i << ": " << a.*member << " " << b.*member;
+    }
+  }
 }
 
 TEST(Diagnosis, OneSickRadiometerFlagsItsAntennaNotTheArray) {
