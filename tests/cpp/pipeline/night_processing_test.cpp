@@ -5,7 +5,10 @@
 #include <gtest/gtest.h>
 #include <hdf5.h>
 
+#include <cstring>
 #include <filesystem>
+#include <type_traits>
+#include <variant>
 
 #include "pipeline/small_night.hpp"
 #include "test_util.hpp"
@@ -188,6 +191,66 @@ TEST(NightProcessing, EveryStageIsReachedAndBadOptionsAreRefusedFirst) {
   options.obs_freq_ghz = 0.0;
   EXPECT_NE(error_of([&] { process_night(night, options); }).find("obs_freq_ghz = 0"),
             std::string::npos);
+}
+
+TEST(NightProcessing, TheResultDoesNotDependOnTheThreadCount) {
+  // Every stored result, to the last bit, from one thread and from three (retrieval, the
+  // scaling rows, the diagnosis' scans, the turbulence stage's pairs and phase sets).
+  const Night& night = small_night();
+  NightProcessingOptions one, three;
+  one.threads = 1;
+  three.threads = 3;
+  const NightProcessingResult a = process_night(night, one), b = process_night(night, three);
+  ASSERT_EQ(a.result_groups.size(), b.result_groups.size());
+  ASSERT_GE(a.result_groups.size(), 4u);  // retrieval, calibration, correction, diagnosis
+  for (std::size_t g = 0; g < a.result_groups.size(); ++g) {
+    const ResultGroup &x = a.result_groups[g], &y = b.result_groups[g];
+    ASSERT_EQ(x.stage, y.stage);
+    EXPECT_EQ(x.attributes, y.attributes) << x.stage;
+    ASSERT_EQ(x.datasets.size(), y.datasets.size()) << x.stage;
+    for (std::size_t d = 0; d < x.datasets.size(); ++d) {
+      const ResultDataset &u = x.datasets[d], &v = y.datasets[d];
+      const std::string where = x.stage + "/" + u.name;
+      ASSERT_EQ(u.name, v.name) << where;
+      EXPECT_EQ(u.shape, v.shape) << where;
+      EXPECT_EQ(u.attributes, v.attributes) << where;
+      ASSERT_EQ(u.values.index(), v.values.index()) << where;
+      std::visit(
+          [&](const auto& values) {
+            const auto& other = std::get<std::decay_t<decltype(values)>>(v.values);
+            ASSERT_EQ(values.size(), other.size()) << where;
+            using Element = typename std::decay_t<decltype(values)>::value_type;
+            if constexpr (std::is_arithmetic_v<Element>) {  // bits: NaN equals NaN
+              EXPECT_EQ(std::memcmp(values.data(), other.data(), values.size() * sizeof(Element)),
+                        0)
+                  << where;
+            } else {
+              EXPECT_EQ(values, other) << where;
+            }
+          },
+          u.values);
+    }
+  }
+  // The turbulence stage, not stored: its structure functions, fits and wind.
+  ASSERT_TRUE(a.turbulence && b.turbulence);
+  const auto same_bits = [](double x, double y) { return std::memcmp(&x, &y, sizeof x) == 0; };
+  for (auto member :
+       {&NightTurbulence::radiometer, &NightTurbulence::before, &NightTurbulence::after,
+        &NightTurbulence::before_by_lag, &NightTurbulence::after_by_lag}) {
+    const FittedStructureFunction &x = (*a.turbulence).*member, &y = (*b.turbulence).*member;
+    EXPECT_EQ(x.message, y.message) << x.source;
+    EXPECT_EQ(x.points.pair_count, y.points.pair_count) << x.source;
+    ASSERT_EQ(x.points.value_m2.size(), y.points.value_m2.size()) << x.source;
+    for (std::size_t i = 0; i < x.points.value_m2.size(); ++i) {
+      EXPECT_TRUE(same_bits(x.points.separation[i], y.points.separation[i])) << x.source;
+      EXPECT_TRUE(same_bits(x.points.value_m2[i], y.points.value_m2[i])) << x.source;
+    }
+    EXPECT_TRUE(same_bits(x.fit.amplitude_m2, y.fit.amplitude_m2)) << x.source;
+    EXPECT_TRUE(same_bits(x.fit.alpha_short, y.fit.alpha_short)) << x.source;
+  }
+  EXPECT_TRUE(a.turbulence->after.measured()) << a.turbulence->after.message;
+  EXPECT_TRUE(same_bits(a.turbulence->wind.speed_m_s, b.turbulence->wind.speed_m_s));
+  EXPECT_TRUE(same_bits(a.turbulence->wind.direction_to_deg, b.turbulence->wind.direction_to_deg));
 }
 
 }  // namespace
