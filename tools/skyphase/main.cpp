@@ -12,7 +12,7 @@
 #include <string_view>
 
 #include "commands.hpp"
-#include "malloc_tunables.hpp"
+#include "huge_page_malloc.hpp"
 #include "output.hpp"
 #include "wvr/error.hpp"
 
@@ -32,7 +32,7 @@ bool json_requested(int argc, char** argv) {
 }  // namespace
 
 int main(int argc, char** argv) {
-  skyphase::reexec_with_malloc_tunables(argv);
+  skyphase::reexec_with_huge_page_malloc(argv);
   CLI::App app{"skyphase: water-vapour radiometer sky model and phase correction (libwvr)"};
   app.require_subcommand(1);
   app.set_version_flag("--version", "skyphase 0.1.0");

@@ -5,7 +5,7 @@
 #include <iomanip>
 #include <iostream>
 
-#include "malloc_tunables.hpp"
+#include "huge_page_malloc.hpp"
 #include "wvr/absorption.hpp"
 #include "wvr/night_file.hpp"
 #include "wvr/site_config.hpp"
@@ -135,11 +135,8 @@ Processed process_and_write(const CommonOptions& o, const wvr::NightProcessingOp
       std::cerr << "step time: " << step << " " << wall_s << " s\n";
     std::cerr << "step time: write " << write_s << " s\n" << std::defaultfloat;
     std::cerr << (huge_page_malloc_on()
-                      ? "memory: large allocations on huge pages (glibc.malloc.hugetlb=1)"
-                      : "memory: large allocations on 4 KiB pages (glibc.malloc.hugetlb not 1)")
-              << (freed_memory_kept()
-                      ? ", freed memory kept for reuse (glibc.malloc.mmap_max=0)\n"
-                      : ", freed memory returned to the system (glibc.malloc.mmap_max not 0)\n");
+                      ? "memory: large allocations on huge pages (glibc.malloc.hugetlb=1)\n"
+                      : "memory: large allocations on 4 KiB pages (glibc.malloc.hugetlb not 1)\n");
   }
   return p;
 }

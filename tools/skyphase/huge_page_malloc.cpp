@@ -1,22 +1,15 @@
-#include "malloc_tunables.hpp"
+#include "huge_page_malloc.hpp"
 
 #include <unistd.h>
 
-#include <array>
 #include <cstdlib>
 #include <string_view>
-#include <utility>
 
 namespace skyphase {
 
 namespace {
 
-constexpr std::string_view kHugePages = "glibc.malloc.hugetlb";
-constexpr std::string_view kMmapMax = "glibc.malloc.mmap_max";
-// (name, value) of every setting skyphase adds.
-constexpr std::array<std::pair<std::string_view, std::string_view>, 3> kSettings = {{
-    {kHugePages, "1"}, {kMmapMax, "0"}, {"glibc.malloc.trim_threshold", "17179869184"},  // 16 GiB
-}};
+constexpr std::string_view kTunable = "glibc.malloc.hugetlb";
 
 // The value of `name` in a GLIBC_TUNABLES string (name=value entries separated by ':').
 std::optional<std::string_view> tunable_value(std::string_view tunables, std::string_view name) {
@@ -32,36 +25,27 @@ std::optional<std::string_view> tunable_value(std::string_view tunables, std::st
   return std::nullopt;
 }
 
-bool tunable_is(std::string_view name, std::string_view value) {
-  const char* current = std::getenv("GLIBC_TUNABLES");
-  if (current == nullptr) return false;
-  const auto set = tunable_value(current, name);
-  return set && *set == value;
-}
-
 }  // namespace
 
-std::optional<std::string> tunables_for_large_nights(const char* current) {
+std::optional<std::string> tunables_with_huge_page_malloc(const char* current) {
   const std::string_view existing = current == nullptr ? std::string_view() : current;
+  if (tunable_value(existing, kTunable)) return std::nullopt;
   std::string value(existing);
-  bool added = false;
-  for (const auto& [name, setting] : kSettings) {
-    if (tunable_value(existing, name)) continue;
-    if (!value.empty()) value += ':';
-    value += std::string(name) + "=" + std::string(setting);
-    added = true;
-  }
-  if (!added) return std::nullopt;
+  if (!value.empty()) value += ':';
+  value += std::string(kTunable) + "=1";
   return value;
 }
 
-bool huge_page_malloc_on() { return tunable_is(kHugePages, "1"); }
-
-bool freed_memory_kept() { return tunable_is(kMmapMax, "0"); }
-
-void reexec_with_malloc_tunables(char** argv) {
+bool huge_page_malloc_on() {
   const char* current = std::getenv("GLIBC_TUNABLES");
-  const std::optional<std::string> wanted = tunables_for_large_nights(current);
+  if (current == nullptr) return false;
+  const auto value = tunable_value(current, kTunable);
+  return value && *value == "1";
+}
+
+void reexec_with_huge_page_malloc(char** argv) {
+  const char* current = std::getenv("GLIBC_TUNABLES");
+  const std::optional<std::string> wanted = tunables_with_huge_page_malloc(current);
   if (!wanted) return;
   const std::optional<std::string> previous =
       current == nullptr ? std::nullopt : std::optional<std::string>(current);
