@@ -6,7 +6,6 @@
 #include <limits>
 #include <span>
 
-#include "core/parallel_for.hpp"
 #include "turbulence/calibrator_groups.hpp"
 #include "wvr/error.hpp"
 
@@ -261,20 +260,13 @@ NightTurbulence analyse_night_turbulence(const Night& night,
                     "calibrator phases " + when + ", by lag (flow separation = wind x lag)", lag_s,
                     note);
   };
-  // The two phase sets side by side: each writes only its own fields.
-  detail::parallel_blocks(
-      2, detail::worker_count(options.threads, 2),
-      [&](std::size_t first, std::size_t end, std::size_t) {
-        for (std::size_t set = first; set < end; ++set) {
-          if (set == 0) {
-            calibrator(night.calibrator_phases.phase_rad, "before correction", t.before,
-                       t.before_by_lag, t.before_by_lag_lag_s, t.before_by_lag_note);
-          } else {
-            calibrator(metrics.corrected_phase_rad, "after correction", t.after, t.after_by_lag,
-                       t.after_by_lag_lag_s, t.after_by_lag_note);
-          }
-        }
-      });
+  // One phase set after the other: side by side, their groupings of every calibrator row at once
+  // raised the peak memory of a 64-antenna, 8-hour night with every baseline from 1.26 to
+  // 1.50 GB for 0.5 s of its 12 s.
+  calibrator(night.calibrator_phases.phase_rad, "before correction", t.before, t.before_by_lag,
+             t.before_by_lag_lag_s, t.before_by_lag_note);
+  calibrator(metrics.corrected_phase_rad, "after correction", t.after, t.after_by_lag,
+             t.after_by_lag_lag_s, t.after_by_lag_note);
   t.switching = switching_advice(t, obs_freq_ghz, options);
   return t;
 }
