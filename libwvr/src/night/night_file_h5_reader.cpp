@@ -364,11 +364,46 @@ bool Reader::read_chunks_on_threads(hid_t dataset,
   return true;
 }
 
+void Reader::refuse_chunks_shorter_than_checksum(hid_t dataset, const std::string& path) const {
+  Id dcpl(H5Dget_create_plist(dataset), H5Pclose);
+  if (dcpl.get() < 0 || H5Pget_layout(dcpl.get()) != H5D_CHUNKED) return;
+  bool checksummed = false;
+  const int filters = H5Pget_nfilters(dcpl.get());
+  for (int i = 0; i < filters; ++i) {
+    unsigned flags = 0, config = 0;
+    std::size_t values = 0;
+    checksummed |= H5Pget_filter2(dcpl.get(), static_cast<unsigned>(i), &flags, &values, nullptr, 0,
+                                  nullptr, &config) == H5Z_FILTER_FLETCHER32;
+  }
+  if (!checksummed) return;
+  const Shape shape = this->shape(dataset, path);
+  const int rank = static_cast<int>(shape.size());
+  Shape chunk(shape.size());
+  if (rank == 0 || H5Pget_chunk(dcpl.get(), rank, chunk.data()) != rank) return;
+  if (std::any_of(chunk.begin(), chunk.end(), [](hsize_t n) { return n == 0; })) return;
+  const ChunkGrid grid(shape, chunk);
+  for (std::size_t i = 0; i < grid.count(); ++i) {
+    const Shape origin = grid.origin(i);
+    unsigned mask = 0;
+    haddr_t address = HADDR_UNDEF;
+    hsize_t bytes = 0;
+    // A chunk never written has no address (it reads as the fill value).
+    if (H5Dget_chunk_info_by_coord(dataset, origin.data(), &mask, &address, &bytes) < 0 ||
+        address == HADDR_UNDEF)
+      continue;
+    if (bytes < 4) {
+      fail(path, "is damaged: a stored chunk holds " + std::to_string(bytes) +
+                     " of the at least 4 bytes its Fletcher-32 checksum needs");
+    }
+  }
+}
+
 void Reader::read_raw(hid_t dataset,
                       const std::string& path,
                       hid_t memory_type,
                       void* buffer) const {
   if (read_chunks_on_threads(dataset, path, memory_type, buffer)) return;
+  refuse_chunks_shorter_than_checksum(dataset, path);
   if (H5Dread(dataset, memory_type, H5S_ALL, H5S_ALL, H5P_DEFAULT, buffer) < 0) {
     fail(path, with_cause("cannot be read (damaged or truncated file?)"));
   }
