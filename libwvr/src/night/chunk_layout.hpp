@@ -15,7 +15,7 @@ namespace wvr::detail::h5 {
 // floating point of one size, byte order and sign): chunks then copy without conversion.
 bool same_layout(hid_t file_type, hid_t memory_type);
 
-// The grid of chunks over an array of `shape` cut into chunks of `chunk`.
+// The grid of chunks over an array of `shape` cut into chunks of `chunk` (no extent 0).
 class ChunkGrid {
  public:
   ChunkGrid(const Shape& shape, const Shape& chunk);

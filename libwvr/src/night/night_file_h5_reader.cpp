@@ -320,6 +320,7 @@ bool Reader::read_chunks_on_threads(hid_t dataset,
   const int rank = static_cast<int>(shape.size());
   Shape chunk(shape.size());
   if (rank == 0 || H5Pget_chunk(dcpl.get(), rank, chunk.data()) != rank) return false;
+  if (std::any_of(chunk.begin(), chunk.end(), [](hsize_t n) { return n == 0; })) return false;
   const ChunkGrid grid(shape, chunk);
   if (grid.count() < 2) return false;  // nothing to spread over threads
   // A chunk never written holds the fill value, which only HDF5's own read supplies.
