@@ -18,6 +18,7 @@
 #include <thread>
 #include <vector>
 
+#include "night/edge_chunk_night.hpp"
 #include "test_util.hpp"
 #include "wvr/wvr.hpp"
 
@@ -25,27 +26,6 @@ namespace wvr {
 namespace {
 
 namespace fs = std::filesystem;
-
-// 5000 samples: per-sample datasets hold one whole chunk of 4096 samples and an edge chunk.
-Night edge_chunk_night() {
-  const Scenario scenario = parse_scenario(R"(
-name = "chunk night"
-seed = 11
-duration_s = 5000.0
-integration_s = 1.0
-site_file = "sites/demo-site.toml"
-radiometer_file = "radiometers/demo-183-dsb.toml"
-[array]
-layout = "random"
-antenna_count = 3
-radius_m = 300.0
-[observing]
-calibrator_scan_s = 120.0
-target_scan_s = 300.0
-)",
-                                           "chunks.toml", test::testdata(""));
-  return simulate_night(scenario);
-}
 
 struct Comparison {
   std::size_t datasets = 0;     // compressed datasets compared

@@ -14,6 +14,7 @@
 #include <vector>
 
 #include "night/chunk_filters.hpp"
+#include "night/edge_chunk_night.hpp"
 #include "night/night_file_h5.hpp"
 #include "test_util.hpp"
 #include "wvr/wvr.hpp"
@@ -253,23 +254,7 @@ TEST_F(NightFileChunkReader, AChunkTooShortForItsChecksumIsRefusedBeforeHdf5Read
 }
 
 TEST_F(NightFileChunkReader, ANightReadsTheSameOnAnyThreadCount) {
-  const Scenario scenario = parse_scenario(R"(
-name = "reader night"
-seed = 5
-duration_s = 9000.0
-integration_s = 1.0
-site_file = "sites/demo-site.toml"
-radiometer_file = "radiometers/demo-183-dsb.toml"
-[array]
-layout = "random"
-antenna_count = 3
-radius_m = 300.0
-[observing]
-calibrator_scan_s = 120.0
-target_scan_s = 300.0
-)",
-                                           "reader.toml", test::testdata(""));
-  const Night night = simulate_night(scenario);
+  const Night night = edge_chunk_night();
   const fs::path path = dir_ / "night.h5";
   write_night(night, path);
   const std::size_t before = filtered_chunks_read;
